@@ -455,8 +455,8 @@ def plant(rows: list[dict]) -> tuple[Plan, dict[int, str]]:
     r["hh_id"] = rows[16]["hh_id"]                   # typo gives another household's id
     plan.note("structure.id-duplicate", "hh_id", 455, r["hh_id"])
     r = plan.row(300)
-    plan.note("structure.id-blank", "hh_id", 300, r["hh_id"])
     r["hh_id"] = ""
+    plan.note("structure.id-blank", "hh_id", 300, "")
     for number, text in ((88, None), (89, None)):
         r = plan.row(number)
         r["hh_id"] = r["hh_id"][:-1] if number == 88 else r["hh_id"].lower()
