@@ -441,10 +441,9 @@ def set_wheeze(row: dict, wheeze: str, night: str) -> None:
     row["wheeze_night"] = night
 
 
-def plant(rows: list[dict]) -> tuple[Plan, dict[int, str]]:
-    """Apply every planted problem. Returns the plan and raw lines that replace whole rows."""
+def plant(rows: list[dict]) -> Plan:
+    """Apply every planted problem in place and return the record of what was planted."""
     plan = Plan(rows)
-    raw_lines: dict[int, str] = {}
 
     # Identifiers. Row 17 and row 229 are sources of duplicates and are left untouched.
     plan.used_rows.update({17, 229})
@@ -457,7 +456,7 @@ def plant(rows: list[dict]) -> tuple[Plan, dict[int, str]]:
     r = plan.row(300)
     r["hh_id"] = ""
     plan.note("structure.id-blank", "hh_id", 300, "")
-    for number, text in ((88, None), (89, None)):
+    for number in (88, 89):
         r = plan.row(number)
         r["hh_id"] = r["hh_id"][:-1] if number == 88 else r["hh_id"].lower()
         plan.note("value.pattern-mismatch", "hh_id", number, r["hh_id"])
@@ -563,7 +562,7 @@ def plant(rows: list[dict]) -> tuple[Plan, dict[int, str]]:
     plan.note("structure.row-length", None, 157, None)
     r = plan.row(len(rows))
     plan.note("structure.row-length", None, len(rows), None)
-    return plan, raw_lines
+    return plan
 
 
 def wave2_header() -> list[str]:
@@ -763,7 +762,7 @@ def main() -> None:
 
     for number, row in enumerate(wave2, start=1):
         row[EXTRA_COLUMN] = f"I{1 + (number * 7) % 12:02d}"
-    plan, _ = plant(wave2)
+    plan = plant(wave2)
     header = wave2_header()
     lines, ragged_fields = wave2_lines(wave2, header)
     write_csv(HERE / "wave2.csv", header, lines)
