@@ -5,3 +5,8 @@
 //! renderer. Each module below owns one of those concepts.
 
 pub mod codebook;
+pub mod diagnostic;
+pub mod rules;
+pub mod output;
+pub mod report;
+pub mod cli;

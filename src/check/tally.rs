@@ -1,0 +1,90 @@
+//! Per-variable tallies kept during the row loop, and accurate streaming statistics.
+//!
+//! Tallies say how every cell of a variable was classified (valid, each missing kind,
+//! legitimately skipped, gate unknown, invalid), which is what a reviewer reads first. The
+//! running mean and variance use Welford's update, which stays accurate where the naive
+//! sum-of-squares formula loses every digit (values near 1e7 differing in the last place).
+
+use crate::codebook::model::MissingKind;
+
+#[derive(Debug, Clone, Default)]
+pub struct Tally {
+    pub valid: u64,
+    pub skipped: u64,
+    pub gate_unknown: u64,
+    /// Indexed like [`MissingKind::ALL`]; skipped codes and blanks count in `skipped` instead.
+    pub missing: [u64; 5],
+    pub invalid: u64,
+    /// Valid cells per category, in the codebook's category order.
+    pub categories: Vec<u64>,
+    pub stats: Running,
+}
+
+impl Tally {
+    pub fn new(categories: usize) -> Self {
+        Tally {
+            categories: vec![0; categories],
+            ..Tally::default()
+        }
+    }
+
+    #[inline]
+    pub fn add_missing(&mut self, kind: MissingKind) {
+        if kind == MissingKind::Skipped {
+            self.skipped += 1;
+        } else {
+            self.missing[kind as usize] += 1;
+        }
+    }
+}
+
+/// Count, mean, variance, minimum and maximum of a stream of numbers, in one pass.
+#[derive(Debug, Clone, Copy)]
+pub struct Running {
+    pub count: u64,
+    mean: f64,
+    m2: f64,
+    pub min: f64,
+    pub max: f64,
+}
+
+impl Default for Running {
+    fn default() -> Self {
+        Running {
+            count: 0,
+            mean: 0.0,
+            m2: 0.0,
+            min: f64::INFINITY,
+            max: f64::NEG_INFINITY,
+        }
+    }
+}
+
+impl Running {
+    #[inline]
+    pub fn push(&mut self, x: f64) {
+        self.count += 1;
+        let delta = x - self.mean;
+        self.mean += delta / self.count as f64;
+        self.m2 += delta * (x - self.mean);
+        self.min = self.min.min(x);
+        self.max = self.max.max(x);
+    }
+
+    pub fn mean(&self) -> Option<f64> {
+        (self.count > 0).then_some(self.mean)
+    }
+
+    /// Sample standard deviation (divisor n - 1).
+    pub fn sd(&self) -> Option<f64> {
+        (self.count > 1).then(|| (self.m2 / (self.count - 1) as f64).sqrt())
+    }
+
+    pub fn min(&self) -> Option<f64> {
+        (self.count > 0).then_some(self.min)
+    }
+
+    pub fn max(&self) -> Option<f64> {
+        (self.count > 0).then_some(self.max)
+    }
+}

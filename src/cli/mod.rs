@@ -1,0 +1,46 @@
+//! The command line: argument structs, dispatch and the exit-code contract.
+//!
+//! Each command has its own file holding its arguments and the wiring from arguments to
+//! library calls; no checking or formatting logic lives here.
+
+mod common;
+mod lint;
+mod rules;
+
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+pub use common::{FailOn, Outcome};
+
+/// Check survey data files against their codebook.
+#[derive(Parser)]
+#[command(name = "concord", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Check a codebook's own consistency before any data is read.
+    Lint(lint::Args),
+    /// List every rule concord reports, or explain one.
+    Rules(rules::Args),
+}
+
+/// Run the command line and return its exit code.
+pub fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let _ = e.print();
+            return ExitCode::from(if e.use_stderr() { 2 } else { 0 });
+        }
+    };
+    let outcome = match cli.command {
+        Command::Lint(args) => lint::run(args),
+        Command::Rules(args) => rules::run(args),
+    };
+    outcome.exit_code()
+}

@@ -1,0 +1,90 @@
+//! Writing output files safely.
+//!
+//! Outputs are written to a temporary file in the destination's folder and renamed into
+//! place only when complete, so a failed run never leaves a partial file, and an output
+//! path that names one of the inputs is refused before anything is written.
+
+use std::io::{self, Write};
+use std::path::{Path, PathBuf};
+
+#[derive(Debug, thiserror::Error, miette::Diagnostic)]
+pub enum OutputError {
+    #[error("refusing to write `{path}`: it is also an input of this command")]
+    #[diagnostic(code(output.is-input), help("choose another output path; inputs are never modified"))]
+    IsInput { path: PathBuf },
+    #[error("cannot write `{path}`: {source}")]
+    #[diagnostic(code(output.unwritable), help("check that the folder exists and that you may write there"))]
+    Io { path: PathBuf, source: io::Error },
+}
+
+/// Fail when `output` is the same file as any of `inputs`.
+pub fn refuse_input(output: &Path, inputs: &[&Path]) -> Result<(), OutputError> {
+    let out = std::fs::canonicalize(output).ok();
+    for input in inputs {
+        let same = match (&out, std::fs::canonicalize(input).ok()) {
+            (Some(a), Some(b)) => *a == b,
+            _ => output == *input,
+        };
+        if same {
+            return Err(OutputError::IsInput {
+                path: output.to_path_buf(),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Write a file atomically: `write` fills a temporary file that is renamed to `path` only
+/// when it returns Ok.
+pub fn write_atomic<F>(path: &Path, write: F) -> Result<(), OutputError>
+where
+    F: FnOnce(&mut dyn Write) -> io::Result<()>,
+{
+    let err = |source| OutputError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let dir = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".concord-")
+        .tempfile_in(dir)
+        .map_err(err)?;
+    {
+        let mut buffered = io::BufWriter::new(tmp.as_file_mut());
+        write(&mut buffered).map_err(err)?;
+        buffered.flush().map_err(err)?;
+    }
+    tmp.persist(path).map_err(|e| err(e.error))?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn failed_write_leaves_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.txt");
+        let result = write_atomic(&path, |w| {
+            w.write_all(b"partial")?;
+            Err(io::Error::other("boom"))
+        });
+        assert!(result.is_err());
+        assert!(!path.exists());
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
+
+    #[test]
+    fn refuses_an_input() {
+        let dir = tempfile::tempdir().unwrap();
+        let input = dir.path().join("in.csv");
+        std::fs::write(&input, "a\n1\n").unwrap();
+        let dotted = dir.path().join(".").join("in.csv");
+        assert!(refuse_input(&dotted, &[&input]).is_err());
+        assert!(refuse_input(&dir.path().join("out.csv"), &[&input]).is_ok());
+    }
+}
