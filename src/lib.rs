@@ -4,9 +4,12 @@
 //! Data flows one way: codebook -> compiled plan -> record stream -> tallies -> report ->
 //! renderer. Each module below owns one of those concepts.
 
+pub mod check;
+pub mod cli;
 pub mod codebook;
+pub mod condition;
+pub mod data;
 pub mod diagnostic;
-pub mod rules;
 pub mod output;
 pub mod report;
-pub mod cli;
+pub mod rules;
