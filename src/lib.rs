@@ -5,3 +5,4 @@
 //! renderer. Each module below owns one of those concepts.
 
 pub mod codebook;
+pub mod data;
