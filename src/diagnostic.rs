@@ -54,7 +54,12 @@ pub fn line_column(text: &str, offset: usize) -> (usize, usize) {
     let offset = offset.min(text.len());
     let before = &text[..floor_char_boundary(text, offset)];
     let line = before.matches('\n').count() + 1;
-    let column = before.rfind('\n').map_or(before, |i| &before[i + 1..]).chars().count() + 1;
+    let column = before
+        .rfind('\n')
+        .map_or(before, |i| &before[i + 1..])
+        .chars()
+        .count()
+        + 1;
     (line, column)
 }
 
@@ -125,7 +130,11 @@ impl Diagnostic {
             severity: Some(severity),
             help: self.help.clone(),
             url: None,
-            labels: if labels.is_empty() { None } else { Some(labels) },
+            labels: if labels.is_empty() {
+                None
+            } else {
+                Some(labels)
+            },
         };
         let report = miette::Report::new(diagnostic);
         match source {

@@ -10,10 +10,16 @@ use std::path::{Path, PathBuf};
 #[derive(Debug, thiserror::Error, miette::Diagnostic)]
 pub enum OutputError {
     #[error("refusing to write `{path}`: it is also an input of this command")]
-    #[diagnostic(code(output.is-input), help("choose another output path; inputs are never modified"))]
+    #[diagnostic(
+        code(concord::output::is_input),
+        help("choose another output path; inputs are never modified")
+    )]
     IsInput { path: PathBuf },
     #[error("cannot write `{path}`: {source}")]
-    #[diagnostic(code(output.unwritable), help("check that the folder exists and that you may write there"))]
+    #[diagnostic(
+        code(concord::output::unwritable),
+        help("check that the folder exists and that you may write there")
+    )]
     Io { path: PathBuf, source: io::Error },
 }
 

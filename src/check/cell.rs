@@ -71,7 +71,10 @@ pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
             i += 1;
         }
         let frac = &b[frac_start..i];
-        decimals = frac.iter().rposition(|&c| c != b'0').map_or(0, |p| p as u32 + 1);
+        decimals = frac
+            .iter()
+            .rposition(|&c| c != b'0')
+            .map_or(0, |p| p as u32 + 1);
         int_digits += frac.len();
     }
     if i != b.len() || int_digits == 0 {
@@ -126,7 +129,9 @@ pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
             }
         }
         Parse::Date { range } => {
-            if let Some(CodeMeaning::Missing(kind)) = plan.codes.lookup(cell, missing_number(plan, cell)) {
+            if let Some(CodeMeaning::Missing(kind)) =
+                plan.codes.lookup(cell, missing_number(plan, cell))
+            {
                 return Cell::Missing(kind);
             }
             match parse_iso_date(cell) {
@@ -140,10 +145,13 @@ pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
             pattern,
             max_length,
         } => {
-            if let Some(CodeMeaning::Missing(kind)) = plan.codes.lookup(cell, missing_number(plan, cell)) {
+            if let Some(CodeMeaning::Missing(kind)) =
+                plan.codes.lookup(cell, missing_number(plan, cell))
+            {
                 return Cell::Missing(kind);
             }
-            if max_length.is_some_and(|m| cell.len() as u64 > m && cell.chars().count() as u64 > m) {
+            if max_length.is_some_and(|m| cell.len() as u64 > m && cell.chars().count() as u64 > m)
+            {
                 Cell::Invalid(ValueRule::TooLong)
             } else if pattern.as_ref().is_some_and(|p| !p.is_match(cell)) {
                 Cell::Invalid(ValueRule::PatternMismatch)
@@ -174,7 +182,9 @@ mod tests {
         assert_eq!(parse_decimal("2.50"), Some((2.5, 1)));
         assert_eq!(parse_decimal("7."), Some((7.0, 0)));
         assert_eq!(parse_decimal(".5"), Some((0.5, 1)));
-        for bad in ["", "-", ".", "1e3", "inf", "NaN", "12,5", "1 2", "0x10", "--1"] {
+        for bad in [
+            "", "-", ".", "1e3", "inf", "NaN", "12,5", "1 2", "0x10", "--1",
+        ] {
             assert_eq!(parse_decimal(bad), None, "{bad}");
         }
     }

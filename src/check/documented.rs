@@ -38,7 +38,10 @@ pub fn compare(codebook: &Codebook, tallies: &[Tally], findings: &mut Findings) 
             }
         }
         if !differ.is_empty() {
-            let detail = format!("{} categories differ from their documented frequency", differ.len());
+            let detail = format!(
+                "{} categories differ from their documented frequency",
+                differ.len()
+            );
             findings.set(
                 "documented.frequency-mismatch",
                 Target::Variable(v),
@@ -70,7 +73,10 @@ pub fn compare(codebook: &Codebook, tallies: &[Tally], findings: &mut Findings) 
                     format_number(d),
                     round_like(f, d)
                 )),
-                None => differ.push(format!("{name}: documented {}, found none", format_number(d))),
+                None => differ.push(format!(
+                    "{name}: documented {}, found none",
+                    format_number(d)
+                )),
             }
         }
         if !differ.is_empty() {

@@ -81,7 +81,14 @@ impl Findings {
     }
 
     /// A finding with a fixed count and detail (documented figures, case count).
-    pub fn set(&mut self, rule: &'static str, target: Target, count: u64, detail: String, examples: Vec<Example>) {
+    pub fn set(
+        &mut self,
+        rule: &'static str,
+        target: Target,
+        count: u64,
+        detail: String,
+        examples: Vec<Example>,
+    ) {
         let max = self.max_examples;
         let f = self.entry(rule, target);
         f.count = count;

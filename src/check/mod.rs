@@ -69,12 +69,20 @@ fn structure(codebook: &Codebook, plan: &plan::Plan, findings: &mut Findings, ro
         findings.add("structure.column-missing", Target::Variable(v), none);
     }
     for (_, name) in &plan.structure.unexpected_columns {
-        findings.add("structure.column-unexpected", Target::Column(name.clone()), none);
+        findings.add(
+            "structure.column-unexpected",
+            Target::Column(name.clone()),
+            none,
+        );
     }
     for (_, name) in &plan.structure.duplicate_columns {
         match codebook.variable_index(name) {
             Some(v) => findings.add("structure.column-duplicate", Target::Variable(v), none),
-            None => findings.add("structure.column-duplicate", Target::Column(name.clone()), none),
+            None => findings.add(
+                "structure.column-duplicate",
+                Target::Column(name.clone()),
+                none,
+            ),
         }
     }
     if let Some(cases) = codebook.dataset.cases {
@@ -95,5 +103,39 @@ fn structure(codebook: &Codebook, plan: &plan::Plan, findings: &mut Findings, ro
     // Examples for column findings carry nothing; drop the placeholders.
     for f in &mut findings.list {
         f.examples.retain(|e| e.row.is_some() || e.value.is_some());
+    }
+}
+
+/// How to read the data file, from the codebook's `[file]` table.
+pub fn source_options(codebook: &Codebook) -> crate::data::SourceOptions {
+    use crate::codebook::model::{Encoding, Layout};
+    use crate::data::{FixedField, Layout as DataLayout};
+    let file = &codebook.file;
+    crate::data::SourceOptions {
+        layout: match file.layout {
+            Layout::Delimited => DataLayout::Delimited {
+                delimiter: file.delimiter,
+                quote: file.quote,
+                header: file.header,
+            },
+            Layout::Fixed => DataLayout::Fixed {
+                fields: codebook
+                    .variables
+                    .iter()
+                    .map(|v| {
+                        v.columns
+                            .map_or(FixedField { start: 1, end: 0 }, |c| FixedField {
+                                start: c.start,
+                                end: c.end,
+                            })
+                    })
+                    .collect(),
+            },
+        },
+        encoding: match file.encoding {
+            Encoding::Utf8 => crate::data::Encoding::Utf8,
+            Encoding::Latin1 => crate::data::Encoding::Latin1,
+            Encoding::Windows1252 => crate::data::Encoding::Windows1252,
+        },
     }
 }

@@ -195,7 +195,8 @@ pub fn compile(codebook: &Codebook, header: Option<&[String]>) -> Result<Plan, V
             },
         };
         let universe = match &v.universe {
-            Some(u) => match conditions::compile(codebook, u, &format!("universe of `{}`", v.name)) {
+            Some(u) => match conditions::compile(codebook, u, &format!("universe of `{}`", v.name))
+            {
                 Ok(c) => Some(c),
                 Err(ds) => {
                     errors.extend(ds);

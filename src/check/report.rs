@@ -95,7 +95,10 @@ pub fn build(
             invalid: t.invalid,
         })
         .collect();
-    let errors = findings.iter().filter(|f| f.severity == Severity::Error).count();
+    let errors = findings
+        .iter()
+        .filter(|f| f.severity == Severity::Error)
+        .count();
     let warnings = findings.len() - errors;
     CheckReport {
         concord: env!("CARGO_PKG_VERSION"),
@@ -112,7 +115,12 @@ pub fn build(
 
 /// File-level findings first, then by variable in codebook order, then checks.
 fn order(codebook: &Codebook, f: &Finding) -> (u8, usize, &'static str) {
-    let rank = |r: &str| crate::rules::CHECK_RULES.iter().position(|x| x.id == r).unwrap_or(0);
+    let rank = |r: &str| {
+        crate::rules::CHECK_RULES
+            .iter()
+            .position(|x| x.id == r)
+            .unwrap_or(0)
+    };
     match (&f.variable, &f.check) {
         (_, Some(_)) => (3, 0, f.rule),
         (None, None) => (0, rank(f.rule), f.rule),
@@ -167,11 +175,12 @@ fn finding(codebook: &Codebook, f: Collected) -> Finding {
     }
 }
 
-fn cells(n: u64) -> String {
+/// "1 cell ... is" / "3 cells ... are": a count, its noun and the verb that agrees with it.
+fn counted(n: u64, noun: &str, of: &str, singular: &str, plural: &str) -> String {
     if n == 1 {
-        "1 cell".to_string()
+        format!("1 {noun}{of} {singular}")
     } else {
-        format!("{n} cells")
+        format!("{n} {noun}s{of} {plural}")
     }
 }
 
@@ -183,76 +192,128 @@ fn rows(n: u64) -> String {
     }
 }
 
-fn message(codebook: &Codebook, f: &Collected, variable: Option<&str>, check: Option<&str>) -> String {
+fn message(
+    codebook: &Codebook,
+    f: &Collected,
+    variable: Option<&str>,
+    check: Option<&str>,
+) -> String {
     let var = variable.unwrap_or("?");
     let v = match f.target {
         Target::Variable(i) => Some(&codebook.variables[i]),
         _ => None,
     };
     let n = f.count;
+    let of = format!(" of `{var}`");
+    // "3 cells of `x` are ...": subject and verb agree with the count.
+    let cells = |singular: &str, plural: &str| counted(n, "cell", &of, singular, plural);
+    let range = |none: &str| {
+        v.and_then(|v| v.range).map_or(String::new(), |r| {
+            let lo = r.min.map_or(none.to_string(), |b| b.to_string());
+            let hi = r.max.map_or(none.to_string(), |b| b.to_string());
+            format!(" {lo} to {hi}")
+        })
+    };
     match f.rule {
         "structure.column-missing" => format!("variable `{var}` has no column in the file"),
         "structure.column-unexpected" => {
-            let near = crate::diagnostic::nearest(var, codebook.variables.iter().map(|v| v.name.as_str()));
-            match near {
-                Some(n) => format!("column `{var}` is not in the codebook (did you mean `{n}`?)"),
+            let names = codebook.variables.iter().map(|v| v.name.as_str());
+            match crate::diagnostic::nearest(var, names) {
+                Some(near) => {
+                    format!("column `{var}` is not in the codebook (did you mean `{near}`?)")
+                }
                 None => format!("column `{var}` is not in the codebook"),
             }
         }
-        "structure.column-duplicate" => format!("column `{var}` appears more than once in the header; the first is checked"),
-        "structure.row-length" => format!("{} have the wrong number of fields; their cells were not checked", rows(n)),
-        "structure.encoding" => format!("{} hold bytes that are not valid {}", rows(n), codebook.file.encoding.name()),
-        "structure.case-count" | "documented.frequency-mismatch" | "documented.statistic-mismatch" => {
+        "structure.column-duplicate" => {
+            format!("column `{var}` appears more than once in the header; the first is checked")
+        }
+        "structure.row-length" => format!(
+            "{} not checked",
+            counted(
+                n,
+                "row",
+                "",
+                "has the wrong number of fields; its cells were",
+                "have the wrong number of fields; their cells were"
+            )
+        ),
+        "structure.encoding" => format!(
+            "{} bytes that are not valid {}",
+            counted(n, "row", "", "holds", "hold"),
+            codebook.file.encoding.name()
+        ),
+        "structure.case-count"
+        | "documented.frequency-mismatch"
+        | "documented.statistic-mismatch" => {
             let detail = f.detail.clone().unwrap_or_default();
             match v {
                 Some(_) => format!("`{var}`: {detail}"),
                 None => detail,
             }
         }
-        "structure.id-duplicate" => format!("{} repeat a key (`{var}`) that appeared earlier", rows(n)),
-        "structure.id-blank" => format!("{} have a blank key (`{var}`)", rows(n)),
-        "value.not-a-number" => format!("{} of `{var}` are not numbers", cells(n)),
-        "value.out-of-range" => {
-            let range = v.and_then(|v| v.range).map(|r| {
-                let lo = r.min.map_or("-inf".to_string(), |b| b.to_string());
-                let hi = r.max.map_or("inf".to_string(), |b| b.to_string());
-                format!(" {lo} to {hi}")
-            });
-            format!("{} of `{var}` are outside the range{} and not a declared code", cells(n), range.unwrap_or_default())
+        "structure.id-duplicate" => format!(
+            "{} a key (`{var}`) that appeared earlier",
+            counted(n, "row", "", "repeats", "repeat")
+        ),
+        "structure.id-blank" => {
+            format!(
+                "{} a blank key (`{var}`)",
+                counted(n, "row", "", "has", "have")
+            )
         }
-        "value.unlabelled-code" => format!("{} of `{var}` hold a code with no category or missing code", cells(n)),
+        "value.not-a-number" => format!("{} not a plain number", cells("is", "are")),
+        "value.out-of-range" => format!(
+            "{} outside the range{} and not a declared code",
+            cells("is", "are"),
+            range("any")
+        ),
+        "value.unlabelled-code" => {
+            format!(
+                "{} a code with no category or missing code",
+                cells("holds", "hold")
+            )
+        }
         "value.too-many-decimals" => format!(
-            "{} of `{var}` have more than {} decimal places",
-            cells(n),
+            "{} more than {} decimal places",
+            cells("has", "have"),
             v.and_then(|v| v.decimals).unwrap_or(0)
         ),
         "value.bad-date" => {
-            let range = v.and_then(|v| v.range).map(|r| {
-                let lo = r.min.map_or("any date".to_string(), |b| b.to_string());
-                let hi = r.max.map_or("any date".to_string(), |b| b.to_string());
-                format!(" between {lo} and {hi}")
-            });
-            format!("{} of `{var}` are not ISO 8601 calendar dates{}", cells(n), range.unwrap_or_default())
+            let within = range("any date");
+            let within = if within.is_empty() {
+                within
+            } else {
+                format!(" within{within}")
+            };
+            format!(
+                "{} not an ISO 8601 calendar date{within}",
+                cells("is", "are")
+            )
         }
-        "value.blank" => format!("{} of `{var}` are empty and no blank meaning is declared", cells(n)),
+        "value.blank" => format!(
+            "{} empty and no blank meaning is declared",
+            cells("is", "are")
+        ),
         "value.pattern-mismatch" => format!(
-            "{} of `{var}` do not match the pattern {}",
-            cells(n),
+            "{} not match the pattern {}",
+            cells("does", "do"),
             v.and_then(|v| v.pattern.clone()).unwrap_or_default()
         ),
         "value.too-long" => format!(
-            "{} of `{var}` are longer than {} characters",
-            cells(n),
+            "{} longer than {} characters",
+            cells("is", "are"),
             v.and_then(|v| v.max_length).unwrap_or(0)
         ),
         "routing.should-be-skipped" => format!(
-            "{} of `{var}` are answered although the universe ({}) excludes the case",
-            cells(n),
-            universe(v)
+            "{} answered although the universe ({}) excludes the case",
+            cells("is", "are"),
+            v.and_then(|v| v.universe.as_ref())
+                .map_or("", |u| u.text.as_str())
         ),
         "routing.should-be-answered" => format!(
-            "{} of `{var}` are skipped although {}",
-            cells(n),
+            "{} skipped although {}",
+            cells("is", "are"),
             match v.and_then(|v| v.universe.as_ref()) {
                 Some(u) => format!("the universe ({}) includes the case", u.text),
                 None => "the question is asked of everyone".to_string(),
@@ -260,13 +321,13 @@ fn message(codebook: &Codebook, f: &Collected, variable: Option<&str>, check: Op
         ),
         "consistency.failed" => {
             let c = check.unwrap_or("?");
-            let text = codebook.checks.iter().find(|x| x.name == c).map(|x| x.assert.text.clone()).unwrap_or_default();
+            let text = codebook
+                .checks
+                .iter()
+                .find(|x| x.name == c)
+                .map_or(String::new(), |x| x.assert.text.clone());
             format!("check `{c}` failed for {}: {text}", rows(n))
         }
-        other => format!("{other}: {}", cells(n)),
+        other => format!("{other}: {}", cells("is", "are")),
     }
-}
-
-fn universe(v: Option<&crate::codebook::model::Variable>) -> String {
-    v.and_then(|v| v.universe.as_ref()).map(|u| u.text.clone()).unwrap_or_default()
 }

@@ -39,7 +39,10 @@ impl Row for RowView<'_> {
     fn value(&self, var: usize) -> Value<'_> {
         match self.cells[var] {
             Cell::Valid(Seen::Number(n)) => Value::Number(n),
-            Cell::Valid(Seen::Text) => match self.plan.columns[var].field.and_then(|f| self.record.field(f)) {
+            Cell::Valid(Seen::Text) => match self.plan.columns[var]
+                .field
+                .and_then(|f| self.record.field(f))
+            {
                 Some(t) => Value::Text(t.trim()),
                 None => Value::Missing,
             },
@@ -99,7 +102,9 @@ pub fn run(
             });
         }
         let ragged = match plan.expected_fields {
-            Some(n) => (record.len() != n).then(|| format!("{} fields, expected {n}", record.len())),
+            Some(n) => {
+                (record.len() != n).then(|| format!("{} fields, expected {n}", record.len()))
+            }
             None => record
                 .length_problem()
                 .map(|p| format!("record length {}, expected {}", p.actual, p.expected)),
@@ -136,7 +141,9 @@ pub fn run(
                     case: case_of(plan, &record),
                     value: record.field(field).map(|s| s.to_string()),
                 });
-            } else if let (Cell::Valid(Seen::Number(n)), true) = (cells[col.var], universe != Tri::Unknown) {
+            } else if let (Cell::Valid(Seen::Number(n)), true) =
+                (cells[col.var], universe != Tri::Unknown)
+            {
                 tally.stats.push(n);
                 if !tally.categories.is_empty() {
                     let text = record.field(field).unwrap_or("").trim();
@@ -144,7 +151,9 @@ pub fn run(
                         tally.categories[c as usize] += 1;
                     }
                 }
-            } else if let (Cell::Valid(Seen::Text), true) = (cells[col.var], universe != Tri::Unknown) {
+            } else if let (Cell::Valid(Seen::Text), true) =
+                (cells[col.var], universe != Tri::Unknown)
+            {
                 if !tally.categories.is_empty() {
                     let text = record.field(field).unwrap_or("").trim();
                     if let Some(CodeMeaning::Category(c)) = col.codes.lookup(text, None) {
@@ -274,7 +283,9 @@ fn check_values(codebook: &Codebook, vars: &[usize], view: &RowView) -> String {
     vars.iter()
         .map(|&v| {
             let shown = match view.value(v) {
-                Value::Number(n) if codebook.variables[v].kind == crate::codebook::model::Kind::Date => {
+                Value::Number(n)
+                    if codebook.variables[v].kind == crate::codebook::model::Kind::Date =>
+                {
                     crate::codebook::date::format_iso_date(n as i32)
                 }
                 Value::Number(n) => crate::codebook::model::format_number(n),

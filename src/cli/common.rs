@@ -85,8 +85,7 @@ pub fn emit(text: &str, path: Option<&Path>, inputs: &[&Path]) -> Result<(), Out
     match path {
         Some(p) => {
             crate::output::refuse_input(p, inputs).map_err(could_not_run)?;
-            crate::output::write_atomic(p, |w| w.write_all(text.as_bytes()))
-                .map_err(could_not_run)
+            crate::output::write_atomic(p, |w| w.write_all(text.as_bytes())).map_err(could_not_run)
         }
         None => {
             let mut out = std::io::stdout().lock();

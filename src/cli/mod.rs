@@ -3,6 +3,7 @@
 //! Each command has its own file holding its arguments and the wiring from arguments to
 //! library calls; no checking or formatting logic lives here.
 
+mod check;
 mod common;
 mod lint;
 mod rules;
@@ -23,6 +24,8 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
+    /// Check a data file against its codebook.
+    Check(check::Args),
     /// Check a codebook's own consistency before any data is read.
     Lint(lint::Args),
     /// List every rule concord reports, or explain one.
@@ -39,6 +42,7 @@ pub fn main() -> ExitCode {
         }
     };
     let outcome = match cli.command {
+        Command::Check(args) => check::run(args),
         Command::Lint(args) => lint::run(args),
         Command::Rules(args) => rules::run(args),
     };

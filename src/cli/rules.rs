@@ -36,7 +36,8 @@ pub fn run(args: Args) -> Outcome {
                 let near = crate::diagnostic::nearest(&id, rules::all().map(|r| r.id));
                 eprintln!(
                     "concord: there is no rule `{id}`{}; `concord rules` lists them all",
-                    near.map(|n| format!(" (did you mean `{n}`?)")).unwrap_or_default()
+                    near.map(|n| format!(" (did you mean `{n}`?)"))
+                        .unwrap_or_default()
                 );
                 Outcome::CouldNotRun
             }

@@ -46,7 +46,10 @@ pub fn compile(
             "lint.condition-syntax",
             format!("the {what} does not parse: {}", e.message),
         )
-        .at(condition.place_of(e.span.offset, e.span.len), e.message.clone());
+        .at(
+            condition.place_of(e.span.offset, e.span.len),
+            e.message.clone(),
+        );
         d.help = e.help.clone();
         vec![d]
     })?;
@@ -59,8 +62,10 @@ pub fn compile(
                 } else {
                     "lint.condition-type"
                 };
-                let mut d = Diagnostic::new(rule, format!("in the {what}: {}", e.message))
-                    .at(condition.place_of(e.span.offset, e.span.len), e.message.clone());
+                let mut d = Diagnostic::new(rule, format!("in the {what}: {}", e.message)).at(
+                    condition.place_of(e.span.offset, e.span.len),
+                    e.message.clone(),
+                );
                 d.help = e.help.clone();
                 d
             })

@@ -119,11 +119,18 @@ pub fn read_text(path: &Path, what: &str) -> Result<String, LoadError> {
         .with_help(format!("give the path of the {what} file itself")));
     }
     let bytes = std::fs::read(path).map_err(|e| {
-        LoadError::file("io.unreadable", path, format!("cannot read {what} file: {e}"))
-            .with_help("check the path and that you may read the file")
+        LoadError::file(
+            "io.unreadable",
+            path,
+            format!("cannot read {what} file: {e}"),
+        )
+        .with_help("check the path and that you may read the file")
     })?;
     match String::from_utf8(bytes) {
-        Ok(text) => Ok(text.strip_prefix('\u{feff}').map(str::to_string).unwrap_or(text)),
+        Ok(text) => Ok(text
+            .strip_prefix('\u{feff}')
+            .map(str::to_string)
+            .unwrap_or(text)),
         Err(e) => {
             let valid = e.utf8_error().valid_up_to();
             let prefix = String::from_utf8_lossy(&e.as_bytes()[..valid]).into_owned();

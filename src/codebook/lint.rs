@@ -26,7 +26,10 @@ pub fn lint(codebook: &Codebook) -> Vec<Diagnostic> {
     if codebook.file.layout == Layout::Fixed {
         fixed_columns(codebook, &mut out);
     }
-    out.sort_by_key(|d| d.place.map_or((usize::MAX, usize::MAX), |p| (p.file, p.offset)));
+    out.sort_by_key(|d| {
+        d.place
+            .map_or((usize::MAX, usize::MAX), |p| (p.file, p.offset))
+    });
     out
 }
 
@@ -82,7 +85,10 @@ fn codes(v: &Variable, out: &mut Vec<Diagnostic>) {
                 "lint.categories-not-allowed",
                 format!("{} variable `{}` has categories", v.kind, v.name),
             )
-            .at(v.categories[0].place, "categories are not used for this kind")
+            .at(
+                v.categories[0].place,
+                "categories are not used for this kind",
+            )
             .help("make the variable categorical, or remove the categories"),
         );
     }
@@ -112,7 +118,9 @@ fn codes(v: &Variable, out: &mut Vec<Diagnostic>) {
                     ),
                 )
                 .at(m.place, "also a category")
-                .help("decide whether the code is an answer or a missing value, and keep one entry"),
+                .help(
+                    "decide whether the code is an answer or a missing value, and keep one entry",
+                ),
             );
         } else if !missing.insert(key) {
             out.push(
@@ -131,7 +139,10 @@ fn codes(v: &Variable, out: &mut Vec<Diagnostic>) {
             out.push(
                 Diagnostic::new(
                     "lint.duplicate-label",
-                    format!("two categories of `{}` are labelled \"{}\"", v.name, c.label),
+                    format!(
+                        "two categories of `{}` are labelled \"{}\"",
+                        v.name, c.label
+                    ),
                 )
                 .at(c.place, "same label as an earlier category"),
             );
@@ -150,7 +161,10 @@ fn kind_options(v: &Variable, out: &mut Vec<Diagnostic>) {
                     v.kind, v.name
                 ),
             )
-            .at(v.place, format!("`{option}` applies to {applies_to} variables"))
+            .at(
+                v.place,
+                format!("`{option}` applies to {applies_to} variables"),
+            )
             .help("check the variable's kind, or remove the option"),
         );
     };
@@ -220,7 +234,8 @@ fn references(codebook: &Codebook, out: &mut Vec<Diagnostic>) {
     }
     if let Some(w) = &codebook.dataset.weight {
         match codebook.variable(&w.name) {
-            None => out.push(unknown_name(codebook, &w.name, "the dataset weight").at(w.place, "unknown")),
+            None => out
+                .push(unknown_name(codebook, &w.name, "the dataset weight").at(w.place, "unknown")),
             Some(v) if v.kind != Kind::Numeric => out.push(
                 Diagnostic::new(
                     "lint.weight-not-numeric",
@@ -266,9 +281,15 @@ fn conditions_and_cycles(codebook: &Codebook, out: &mut Vec<Diagnostic>) {
         out.push(
             Diagnostic::new(
                 "lint.universe-cycle",
-                format!("universes depend on each other in a cycle: {}", path.join(" -> ")),
+                format!(
+                    "universes depend on each other in a cycle: {}",
+                    path.join(" -> ")
+                ),
             )
-            .at(first.universe.as_ref().and_then(|u| u.place), "this universe is part of the cycle")
+            .at(
+                first.universe.as_ref().and_then(|u| u.place),
+                "this universe is part of the cycle",
+            )
             .help("a question's universe may depend only on questions asked before it"),
         );
     }
@@ -298,7 +319,11 @@ fn cycles(depends: &[Vec<usize>]) -> Vec<Vec<usize>> {
                 Mark::Active => {
                     let start = stack.iter().position(|&n| n == next).unwrap_or(0);
                     let mut cycle = stack[start..].to_vec();
-                    let lowest = cycle.iter().enumerate().min_by_key(|(_, &n)| n).map_or(0, |(i, _)| i);
+                    let lowest = cycle
+                        .iter()
+                        .enumerate()
+                        .min_by_key(|(_, &n)| n)
+                        .map_or(0, |(i, _)| i);
                     cycle.rotate_left(lowest);
                     if !found.contains(&cycle) {
                         found.push(cycle);
@@ -328,7 +353,10 @@ fn fixed_columns(codebook: &Codebook, out: &mut Vec<Diagnostic>) {
             None => out.push(
                 Diagnostic::new(
                     "lint.fixed-columns-absent",
-                    format!("variable `{}` has no columns, but the layout is fixed-width", v.name),
+                    format!(
+                        "variable `{}` has no columns, but the layout is fixed-width",
+                        v.name
+                    ),
                 )
                 .at(v.place, "no `columns`")
                 .help("add `columns = { start = .., end = .. }` (1-based, inclusive)"),
@@ -371,7 +399,11 @@ fn fixed_columns(codebook: &Codebook, out: &mut Vec<Diagnostic>) {
             out.push(
                 Diagnostic::new(
                     "lint.fixed-columns-gap",
-                    format!("columns 1-{} are read by no variable (before `{}`)", c.start - 1, v.name),
+                    format!(
+                        "columns 1-{} are read by no variable (before `{}`)",
+                        c.start - 1,
+                        v.name
+                    ),
                 )
                 .at(c.place, "gap before these columns"),
             );

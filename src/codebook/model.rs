@@ -413,8 +413,13 @@ impl Variable {
 
     /// Are all of this variable's codes (categories and missing codes) numbers?
     pub fn has_numeric_codes(&self) -> bool {
-        self.categories.iter().all(|c| matches!(c.code, Code::Number(_)))
-            && self.missing.iter().all(|m| matches!(m.code, Code::Number(_)))
+        self.categories
+            .iter()
+            .all(|c| matches!(c.code, Code::Number(_)))
+            && self
+                .missing
+                .iter()
+                .all(|m| matches!(m.code, Code::Number(_)))
     }
 }
 

@@ -28,11 +28,13 @@ pub struct Loaded {
 /// Read a native TOML codebook from its text. `path` is used in messages only.
 pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
-        return Err(LoadError::file("codebook.empty", path, "the codebook file is empty")
-            .with_help("a codebook needs a [dataset] table and at least one [[variables]] entry"));
+        return Err(
+            LoadError::file("codebook.empty", path, "the codebook file is empty").with_help(
+                "a codebook needs a [dataset] table and at least one [[variables]] entry",
+            ),
+        );
     }
-    let raw: RawCodebook =
-        toml::from_str(&text).map_err(|e| toml_error(path, &text, &e))?;
+    let raw: RawCodebook = toml::from_str(&text).map_err(|e| toml_error(path, &text, &e))?;
     let source = Arc::new(SourceFile {
         path: path.to_path_buf(),
         text,
@@ -321,8 +323,13 @@ impl Reader<'_> {
         let raw = raw.into_inner();
         if let Some(base) = &raw.base {
             return Err(self
-                .error_at(base, "`base` (building on a DDI codebook) is not supported yet")
-                .with_help("write the variables in this file instead of reading them from a DDI base"));
+                .error_at(
+                    base,
+                    "`base` (building on a DDI codebook) is not supported yet",
+                )
+                .with_help(
+                    "write the variables in this file instead of reading them from a DDI base",
+                ));
         }
         let cases = match raw.cases {
             Some(c) if *c.get_ref() < 0 => {
@@ -422,7 +429,13 @@ impl Reader<'_> {
             toml::Value::Float(f) if f.is_finite() => Ok(Code::Number(*f)),
             toml::Value::String(t) => Ok(Code::Text(t.trim().to_string())),
             other => Err(self
-                .error_at(s, format!("a code must be a number or a string, not {}", other.type_str()))
+                .error_at(
+                    s,
+                    format!(
+                        "a code must be a number or a string, not {}",
+                        other.type_str()
+                    ),
+                )
                 .with_help("write `code = 1` or `code = \"A\"`")),
         }
     }
@@ -485,7 +498,10 @@ impl Reader<'_> {
                 Err(_) => self.problem(
                     Diagnostic::new(
                         "lint.negative-decimals",
-                        format!("`decimals` is {}, but it counts decimal places", d.get_ref()),
+                        format!(
+                            "`decimals` is {}, but it counts decimal places",
+                            d.get_ref()
+                        ),
                     )
                     .at(self.place(&d), "must be 0 or more")
                     .help("write the most decimal places a value may have, e.g. `decimals = 1`"),
@@ -522,7 +538,10 @@ impl Reader<'_> {
                 self.problem(
                     Diagnostic::new(
                         "lint.bad-pattern",
-                        format!("`pattern` of `{}` is not a valid regular expression", v.name),
+                        format!(
+                            "`pattern` of `{}` is not a valid regular expression",
+                            v.name
+                        ),
                     )
                     .at(self.place(&p), "does not compile")
                     .help(first_line(&e.to_string())),
@@ -566,7 +585,9 @@ impl Reader<'_> {
         let bound = match (s.get_ref(), kind) {
             (toml::Value::String(t), Kind::Date) => parse_iso_date(t.trim()).map(Bound::Date),
             (toml::Value::Datetime(dt), Kind::Date) if dt.time.is_none() && dt.offset.is_none() => {
-                dt.date.and_then(|d| parse_iso_date(&d.to_string())).map(Bound::Date)
+                dt.date
+                    .and_then(|d| parse_iso_date(&d.to_string()))
+                    .map(Bound::Date)
             }
             (toml::Value::Integer(i), k) if k != Kind::Date => Some(Bound::Number(*i as f64)),
             (toml::Value::Float(f), k) if k != Kind::Date && f.is_finite() => {

@@ -17,7 +17,10 @@ pub struct LintReport<'a> {
 
 impl LintReport<'_> {
     pub fn count(&self, severity: Severity) -> usize {
-        self.diagnostics.iter().filter(|d| d.severity == severity).count()
+        self.diagnostics
+            .iter()
+            .filter(|d| d.severity == severity)
+            .count()
     }
 }
 
@@ -26,7 +29,10 @@ pub fn text(report: &LintReport, style: TextStyle) -> String {
     for d in report.diagnostics {
         out.push_str(&render_miette(&d.to_report(report.sources), style));
     }
-    let (errors, warnings) = (report.count(Severity::Error), report.count(Severity::Warning));
+    let (errors, warnings) = (
+        report.count(Severity::Error),
+        report.count(Severity::Warning),
+    );
     if errors + warnings == 0 {
         out.push_str(&format!("{}: no problems found\n", report.codebook));
     } else {

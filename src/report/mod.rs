@@ -3,6 +3,7 @@
 //! Renderers never compute: they receive plain data (diagnostics, check reports) and only
 //! format it. The miette renderer for terminals lives here too, configured once.
 
+pub mod check;
 pub mod lint;
 
 use miette::{GraphicalReportHandler, GraphicalTheme};
