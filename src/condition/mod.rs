@@ -143,7 +143,7 @@ pub trait Resolve {
 }
 
 /// A list of names and types resolves each name to its position in the list.
-impl Resolve for [(&str, VarType)] {
+impl Resolve for &[(&str, VarType)] {
     fn resolve(&self, name: &str) -> Option<(usize, VarType)> {
         self.iter()
             .position(|(candidate, _)| *candidate == name)
@@ -174,7 +174,19 @@ pub trait Row {
 }
 
 /// A slice of values is a row indexed by position; indices past its end are missing.
-impl Row for [Value<'_>] {
+impl Row for &[Value<'_>] {
+    fn value(&self, var: usize) -> Value<'_> {
+        self.get(var).copied().unwrap_or(Value::Missing)
+    }
+}
+
+impl<const N: usize> Row for [Value<'_>; N] {
+    fn value(&self, var: usize) -> Value<'_> {
+        self.get(var).copied().unwrap_or(Value::Missing)
+    }
+}
+
+impl Row for Vec<Value<'_>> {
     fn value(&self, var: usize) -> Value<'_> {
         self.get(var).copied().unwrap_or(Value::Missing)
     }
