@@ -29,6 +29,21 @@
 //! for numbers only. Names and keywords (`and`, `or`, `not`, `in`) are case-sensitive.
 //!
 //! `x not in [..]` is accepted and means `not (x in [..])`.
+//!
+//! # Example
+//!
+//! ```
+//! use concord::condition::{compile_condition_str, Tri, Value, VarType};
+//!
+//! let names: &[(&str, VarType)] = &[("bike_days", VarType::Number), ("bike_km", VarType::Number)];
+//! let check = compile_condition_str("bike_km <= 100 * bike_days", &names).unwrap();
+//! assert_eq!(check.variables(), &[0, 1]);
+//! assert_eq!(check.eval(&[Value::Number(2.0), Value::Number(150.0)]), Tri::True);
+//! assert_eq!(check.eval(&[Value::Missing, Value::Number(150.0)]), Tri::Unknown);
+//!
+//! let errors = compile_condition_str("bike_kms > 0", &names).unwrap_err();
+//! assert_eq!(errors[0].help.as_deref(), Some("did you mean `bike_km`?"));
+//! ```
 
 mod ast;
 mod compile;
