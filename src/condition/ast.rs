@@ -274,3 +274,39 @@ impl fmt::Display for Literal {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use crate::condition::parse;
+
+    fn shown(text: &str) -> String {
+        parse(text).unwrap().to_string()
+    }
+
+    #[test]
+    fn display_keeps_only_needed_parentheses() {
+        assert_eq!(
+            shown("((a == 1)) or (b == 1 and c == 1)"),
+            "a == 1 or b == 1 and c == 1"
+        );
+        assert_eq!(
+            shown("(a == 1 or b == 1) and c == 1"),
+            "(a == 1 or b == 1) and c == 1"
+        );
+        assert_eq!(shown("a - (b - c)"), "a - (b - c)");
+        assert_eq!(shown("(a - b) - c"), "a - b - c");
+        assert_eq!(shown("-(a + 1) * 2"), "-(a + 1) * 2");
+        assert_eq!(shown("not (a == 1 and b)"), "not (a == 1 and b)");
+        assert_eq!(shown("(a < b) < c"), "(a < b) < c");
+    }
+
+    #[test]
+    fn display_writes_literals_back_as_parsed() {
+        assert_eq!(
+            shown(r#"x in [1, -2.5, 'it\'s', "a\"b\\"]"#),
+            r#"x in [1, -2.5, "it's", "a\"b\\"]"#
+        );
+        assert_eq!(shown("x not in [0.1]"), "x not in [0.1]");
+        assert_eq!(shown("answered( x )"), "answered(x)");
+    }
+}

@@ -29,6 +29,21 @@
 //! for numbers only. Names and keywords (`and`, `or`, `not`, `in`) are case-sensitive.
 //!
 //! `x not in [..]` is accepted and means `not (x in [..])`.
+//!
+//! # Example
+//!
+//! ```
+//! use concord::condition::{compile_condition_str, Tri, Value, VarType};
+//!
+//! let names: &[(&str, VarType)] = &[("bike_days", VarType::Number), ("bike_km", VarType::Number)];
+//! let check = compile_condition_str("bike_km <= 100 * bike_days", &names).unwrap();
+//! assert_eq!(check.variables(), &[0, 1]);
+//! assert_eq!(check.eval(&[Value::Number(2.0), Value::Number(150.0)]), Tri::True);
+//! assert_eq!(check.eval(&[Value::Missing, Value::Number(150.0)]), Tri::Unknown);
+//!
+//! let errors = compile_condition_str("bike_kms > 0", &names).unwrap_err();
+//! assert_eq!(errors[0].help.as_deref(), Some("did you mean `bike_km`?"));
+//! ```
 
 mod ast;
 mod compile;
@@ -143,7 +158,7 @@ pub trait Resolve {
 }
 
 /// A list of names and types resolves each name to its position in the list.
-impl Resolve for [(&str, VarType)] {
+impl Resolve for &[(&str, VarType)] {
     fn resolve(&self, name: &str) -> Option<(usize, VarType)> {
         self.iter()
             .position(|(candidate, _)| *candidate == name)
@@ -174,7 +189,19 @@ pub trait Row {
 }
 
 /// A slice of values is a row indexed by position; indices past its end are missing.
-impl Row for [Value<'_>] {
+impl Row for &[Value<'_>] {
+    fn value(&self, var: usize) -> Value<'_> {
+        self.get(var).copied().unwrap_or(Value::Missing)
+    }
+}
+
+impl<const N: usize> Row for [Value<'_>; N] {
+    fn value(&self, var: usize) -> Value<'_> {
+        self.get(var).copied().unwrap_or(Value::Missing)
+    }
+}
+
+impl Row for Vec<Value<'_>> {
     fn value(&self, var: usize) -> Value<'_> {
         self.get(var).copied().unwrap_or(Value::Missing)
     }

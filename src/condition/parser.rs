@@ -16,7 +16,11 @@ use super::{ParseError, Span};
 /// Operators and parentheses allowed in one condition. Codebook conditions are a line or
 /// two; the bound keeps parsing, compiling and evaluating free of deep recursion on
 /// hostile input.
-const MAX_OPERATORS: usize = 1000;
+const MAX_OPERATORS: usize = 256;
+
+/// Nesting of parentheses and prefix operators, bounded for the same reason: each level is a
+/// recursive call of the parser.
+const MAX_NESTING: usize = 64;
 
 /// Parse condition text (or an arithmetic expression) into a syntax tree.
 pub fn parse(text: &str) -> Result<Expr, ParseError> {
@@ -33,19 +37,25 @@ pub fn parse(text: &str) -> Result<Expr, ParseError> {
         lexer,
         current,
         budget: MAX_OPERATORS,
+        nesting: 0,
     };
     let expr = parser.expression(precedence::OR)?;
     if parser.current.kind != TokenKind::End {
-        let help = match parser.current.kind {
-            TokenKind::CloseParen => "this `)` has no matching `(`",
-            _ => "join conditions with `and` or `or`",
+        let help = match &parser.current.kind {
+            TokenKind::CloseParen => "this `)` has no matching `(`".to_owned(),
+            TokenKind::Identifier(word)
+                if ["and", "or", "not", "in"].contains(&word.to_lowercase().as_str()) =>
+            {
+                format!("keywords are lowercase: `{}`", word.to_lowercase())
+            }
+            _ => "join conditions with `and` or `or`".to_owned(),
         };
         return Err(parser.error_here(
             format!(
                 "expected an operator or the end of the condition, found {}",
                 parser.current.kind.describe()
             ),
-            Some(help),
+            Some(&help),
         ));
     }
     Ok(expr)
@@ -84,6 +94,7 @@ struct Parser<'a> {
     lexer: Lexer<'a>,
     current: Token,
     budget: usize,
+    nesting: usize,
 }
 
 fn node(kind: ExprKind, span: Span) -> Expr {
@@ -146,6 +157,19 @@ impl Parser<'_> {
 
     /// Parse operators binding at least as tightly as `min`.
     fn expression(&mut self, min: u8) -> Result<Expr, ParseError> {
+        if self.nesting == MAX_NESTING {
+            return Err(self.error_here(
+                format!("the condition is nested too deeply (more than {MAX_NESTING} levels)"),
+                Some("remove redundant parentheses or split the condition"),
+            ));
+        }
+        self.nesting += 1;
+        let result = self.operators(min);
+        self.nesting -= 1;
+        result
+    }
+
+    fn operators(&mut self, min: u8) -> Result<Expr, ParseError> {
         let mut left = self.prefix(min)?;
         let mut compared = false;
         while let Some((level, op)) = infix(&self.current.kind) {
