@@ -31,8 +31,8 @@ fn root() -> PathBuf {
 
 fn schema() -> Json {
     let path = root().join("schemas/codebook.schema.json");
-    let text = fs::read_to_string(&path)
-        .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
+    let text =
+        fs::read_to_string(&path).unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
     serde_json::from_str(&text)
         .unwrap_or_else(|e| panic!("{} is not valid JSON: {e}", path.display()))
 }
@@ -63,8 +63,8 @@ fn toml_to_json(value: toml::Value) -> Json {
 }
 
 fn read_codebook(path: &Path) -> (String, Json) {
-    let text = fs::read_to_string(path)
-        .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
+    let text =
+        fs::read_to_string(path).unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
     let table: toml::Table = text
         .parse()
         .unwrap_or_else(|e| panic!("{} is not valid TOML: {e}", path.display()));
