@@ -9,6 +9,7 @@ pub mod error;
 pub mod lint;
 pub mod model;
 pub mod native;
+pub mod write_toml;
 
 use std::path::Path;
 
