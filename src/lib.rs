@@ -14,6 +14,7 @@ pub mod codebook;
 pub mod condition;
 pub mod data;
 pub mod diagnostic;
+pub mod extract;
 pub mod output;
 pub mod report;
 pub mod rules;

@@ -40,6 +40,53 @@ pub fn refuse_input(output: &Path, inputs: &[&Path]) -> Result<(), OutputError> 
     Ok(())
 }
 
+/// An output file being written: it appears under its name only on [`AtomicFile::commit`];
+/// dropped without a commit, it leaves nothing behind.
+pub struct AtomicFile {
+    path: PathBuf,
+    tmp: tempfile::NamedTempFile,
+}
+
+impl AtomicFile {
+    pub fn create(path: &Path) -> Result<Self, OutputError> {
+        let dir = match path.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        let tmp = tempfile::Builder::new()
+            .prefix(".concord-")
+            .tempfile_in(dir)
+            .map_err(|source| OutputError::Io {
+                path: path.to_path_buf(),
+                source,
+            })?;
+        Ok(AtomicFile {
+            path: path.to_path_buf(),
+            tmp,
+        })
+    }
+
+    pub fn file(&mut self) -> &mut std::fs::File {
+        self.tmp.as_file_mut()
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// Flush and move the file into place.
+    pub fn commit(mut self) -> Result<(), OutputError> {
+        let path = self.path.clone();
+        let err = |source| OutputError::Io {
+            path: path.clone(),
+            source,
+        };
+        self.tmp.as_file_mut().flush().map_err(err)?;
+        self.tmp.persist(&self.path).map_err(|e| err(e.error))?;
+        Ok(())
+    }
+}
+
 /// Write a file atomically: `write` fills a temporary file that is renamed to `path` only
 /// when it returns Ok.
 pub fn write_atomic<F>(path: &Path, write: F) -> Result<(), OutputError>

@@ -10,6 +10,7 @@ pub mod documented;
 pub mod findings;
 pub mod plan;
 pub mod report;
+pub mod row;
 pub mod run;
 pub mod tally;
 

@@ -5,6 +5,7 @@
 
 mod check;
 mod common;
+mod extract;
 mod lint;
 mod rules;
 
@@ -26,6 +27,8 @@ struct Cli {
 enum Command {
     /// Check a data file against its codebook.
     Check(check::Args),
+    /// Write a labelled extract (CSV) and a codebook describing it.
+    Extract(extract::Args),
     /// Check a codebook's own consistency before any data is read.
     Lint(lint::Args),
     /// List every rule concord reports, or explain one.
@@ -43,6 +46,7 @@ pub fn main() -> ExitCode {
     };
     let outcome = match cli.command {
         Command::Check(args) => check::run(args),
+        Command::Extract(args) => extract::run(args),
         Command::Lint(args) => lint::run(args),
         Command::Rules(args) => rules::run(args),
     };
