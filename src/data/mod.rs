@@ -117,7 +117,7 @@ pub fn open(path: &Path, options: &SourceOptions) -> Result<RecordSource, DataEr
         return Err(DataError::IsDirectory { path: name });
     }
     let file = File::open(path).map_err(open_error)?;
-    let total = metadata.is_file().then(|| metadata.len());
+    let total = metadata.is_file().then_some(metadata.len());
     build(name, Box::new(file), options, total)
 }
 
