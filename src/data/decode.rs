@@ -71,6 +71,10 @@ pub(crate) fn decoded_stream(
     let mut start = Prefixed::new(utf8, 3)?;
     if encoding == Encoding::Utf8 && start.prefix() == [0xef, 0xbb, 0xbf] {
         start.skip_prefix();
+        // Look past the BOM: a file holding only a BOM is empty.
+        let rest = Prefixed::new(start, 1)?;
+        let has_bytes = !rest.prefix().is_empty();
+        return Ok((Box::new(rest), has_bytes));
     }
     let has_bytes = !start.prefix().is_empty();
     Ok((Box::new(start), has_bytes))
@@ -315,7 +319,8 @@ mod tests {
 
     #[test]
     fn bom_is_dropped_only_for_utf8() {
-        assert_eq!(decode_all(b"\xef\xbb\xbfa", Encoding::Utf8), b"a");
+        assert_eq!(decode_all(b"\xef\xbb\xbfab", Encoding::Utf8), b"ab");
+        assert_eq!(decode_all(b"\xef\xbb\xbf", Encoding::Utf8), b"");
         assert_eq!(
             String::from_utf8(decode_all(b"\xef\xbb\xbfa", Encoding::Latin1)).unwrap(),
             "\u{ef}\u{bb}\u{bf}a"
