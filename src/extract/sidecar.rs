@@ -91,13 +91,23 @@ pub fn sidecar(
                 .collect();
         }
         if options.missing_labels {
+            // Without its universe a variable is asked of everyone, so a legitimate skip
+            // would read as a missing answer: skips are declared with kind `other` here and
+            // keep their label, which still says what they are.
+            let kind_here = |k: MissingKind| {
+                if k == MissingKind::Skipped {
+                    MissingKind::Other
+                } else {
+                    k
+                }
+            };
             let mut seen = std::collections::HashSet::new();
             for m in &src.missing {
                 if seen.insert(m.label.clone()) {
                     var.missing.push(MissingCode {
                         code: Code::Text(m.label.clone()),
                         label: m.label.clone(),
-                        kind: m.kind,
+                        kind: kind_here(m.kind),
                         place: None,
                     });
                 }
@@ -107,7 +117,7 @@ pub fn sidecar(
                     var.missing.push(MissingCode {
                         code: Code::Text(kind.name().to_string()),
                         label: kind.name().to_string(),
-                        kind,
+                        kind: kind_here(kind),
                         place: None,
                     });
                 }
