@@ -46,6 +46,10 @@ pub struct Args {
 enum Format {
     Text,
     Json,
+    /// SARIF 2.1.0, for code-scanning dashboards.
+    Sarif,
+    /// JUnit XML: one test case per variable, for CI test summaries.
+    Junit,
 }
 
 #[derive(Clone, Copy, ValueEnum)]
@@ -145,6 +149,8 @@ pub fn run(args: Args) -> Outcome {
                 report::check::text(&result, style)
             }
             Format::Json => report::check::json(&result),
+            Format::Sarif => report::sarif::sarif(&result),
+            Format::Junit => report::junit::junit(&result, |f| fail_on.fails(f.severity)),
         };
         let inputs = [args.codebook.as_path(), args.data.as_path()];
         if let Err(o) = emit(&text, args.output.as_deref(), &inputs) {

@@ -4,7 +4,9 @@
 //! format it. The miette renderer for terminals lives here too, configured once.
 
 pub mod check;
+pub mod junit;
 pub mod lint;
+pub mod sarif;
 
 use miette::{GraphicalReportHandler, GraphicalTheme};
 
