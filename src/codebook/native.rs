@@ -513,6 +513,13 @@ impl Reader<'_> {
         if let Some(c) = raw.columns {
             let place = self.place(&c);
             let inner = c.get_ref();
+            // An invalid span is kept (negative numbers as 0) so that lint knows the variable
+            // has columns and does not also call them absent; nothing reads such a span.
+            v.columns = Some(Columns {
+                start: usize::try_from(inner.start).unwrap_or(0),
+                end: usize::try_from(inner.end).unwrap_or(0),
+                place,
+            });
             if inner.start < 1 || inner.end < inner.start {
                 self.problem(
                     Diagnostic::new(
@@ -525,12 +532,6 @@ impl Reader<'_> {
                     .at(place, "start must be 1 or more and end at least start")
                     .help("columns are 1-based and inclusive: `columns = { start = 1, end = 5 }`"),
                 );
-            } else {
-                v.columns = Some(Columns {
-                    start: inner.start as usize,
-                    end: inner.end as usize,
-                    place,
-                });
             }
         }
         v.pattern = raw.pattern.map(|p| {
