@@ -54,7 +54,11 @@ pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
 }
 
 fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
-    let message = e.message().trim().to_string();
+    // serde names Rust types ("expected i64"); say what a codebook author writes.
+    let message = e
+        .message()
+        .trim()
+        .replace("expected i64", "expected a whole number");
     let range = e.span().unwrap_or(0..0);
     let mut help = None;
     for prefix in ["unknown field `", "unknown variant `"] {
