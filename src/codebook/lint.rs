@@ -349,6 +349,8 @@ fn fixed_columns(codebook: &Codebook, out: &mut Vec<Diagnostic>) {
     let mut spans = Vec::new();
     for v in &codebook.variables {
         match v.columns {
+            // Already reported by the reader as `lint.bad-columns`.
+            Some(c) if c.start < 1 || c.end < c.start => {}
             Some(c) => spans.push((c, v)),
             None => out.push(
                 Diagnostic::new(
@@ -364,54 +366,68 @@ fn fixed_columns(codebook: &Codebook, out: &mut Vec<Diagnostic>) {
         }
     }
     spans.sort_by_key(|(c, _)| (c.start, c.end));
+    // Unread column ranges, each with the variable that starts right after it. They are
+    // reported together: one blank separator column between fields is a common layout, and
+    // a warning per separator would bury the gaps that matter.
+    let mut gaps: Vec<((usize, usize), &Variable)> = Vec::new();
     let mut covered_to = 0usize;
     let mut last: Option<&Variable> = None;
     for (c, v) in spans {
-        if let Some(prev) = last {
-            if c.start <= covered_to {
-                out.push(
-                    Diagnostic::new(
-                        "lint.fixed-columns-overlap",
-                        format!(
-                            "columns {}-{} of `{}` overlap those of `{}` (up to {covered_to})",
-                            c.start, c.end, v.name, prev.name
-                        ),
-                    )
-                    .at(c.place, "overlaps")
-                    .help("each character position should belong to one variable"),
-                );
-            } else if c.start > covered_to + 1 {
-                out.push(
-                    Diagnostic::new(
-                        "lint.fixed-columns-gap",
-                        format!(
-                            "columns {}-{} are read by no variable (between `{}` and `{}`)",
-                            covered_to + 1,
-                            c.start - 1,
-                            prev.name,
-                            v.name
-                        ),
-                    )
-                    .at(c.place, "gap before these columns"),
-                );
-            }
-        } else if c.start > 1 {
-            out.push(
+        match last {
+            Some(prev) if c.start <= covered_to => out.push(
                 Diagnostic::new(
-                    "lint.fixed-columns-gap",
+                    "lint.fixed-columns-overlap",
                     format!(
-                        "columns 1-{} are read by no variable (before `{}`)",
-                        c.start - 1,
-                        v.name
+                        "columns {}-{} of `{}` overlap those of `{}` (up to {covered_to})",
+                        c.start, c.end, v.name, prev.name
                     ),
                 )
-                .at(c.place, "gap before these columns"),
-            );
+                .at(c.place, "overlaps")
+                .help("each character position should belong to one variable"),
+            ),
+            _ if c.start > covered_to + 1 => gaps.push(((covered_to + 1, c.start - 1), v)),
+            _ => {}
         }
         if c.end > covered_to {
             covered_to = c.end;
             last = Some(v);
         }
+    }
+    if let Some(&((start, end), first)) = gaps.first() {
+        let ranges: Vec<String> = gaps.iter().map(|&(r, _)| column_range(r)).collect();
+        let (noun, verb) = if gaps.len() == 1 && start == end {
+            ("column", "is")
+        } else {
+            ("columns", "are")
+        };
+        out.push(
+            Diagnostic::new(
+                "lint.fixed-columns-gap",
+                format!("{noun} {} {verb} read by no variable", ranges.join(", ")),
+            )
+            .at(
+                first.columns.and_then(|c| c.place),
+                format!(
+                    "the first unread {}, {}, comes just before `{}`",
+                    if start == end { "column" } else { "columns" },
+                    column_range((start, end)),
+                    first.name
+                ),
+            )
+            .help(
+                "single filler columns between fields are common and harmless when intended; \
+                 a wider gap can be a variable missing from the codebook",
+            ),
+        );
+    }
+}
+
+/// `7` or `11-12`.
+fn column_range((start, end): (usize, usize)) -> String {
+    if start == end {
+        start.to_string()
+    } else {
+        format!("{start}-{end}")
     }
 }
 

@@ -54,7 +54,11 @@ pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
 }
 
 fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
-    let message = e.message().trim().to_string();
+    // serde names Rust types ("expected i64"); say what a codebook author writes.
+    let message = e
+        .message()
+        .trim()
+        .replace("expected i64", "expected a whole number");
     let range = e.span().unwrap_or(0..0);
     let mut help = None;
     for prefix in ["unknown field `", "unknown variant `"] {
@@ -513,6 +517,13 @@ impl Reader<'_> {
         if let Some(c) = raw.columns {
             let place = self.place(&c);
             let inner = c.get_ref();
+            // An invalid span is kept (negative numbers as 0) so that lint knows the variable
+            // has columns and does not also call them absent; nothing reads such a span.
+            v.columns = Some(Columns {
+                start: usize::try_from(inner.start).unwrap_or(0),
+                end: usize::try_from(inner.end).unwrap_or(0),
+                place,
+            });
             if inner.start < 1 || inner.end < inner.start {
                 self.problem(
                     Diagnostic::new(
@@ -525,12 +536,6 @@ impl Reader<'_> {
                     .at(place, "start must be 1 or more and end at least start")
                     .help("columns are 1-based and inclusive: `columns = { start = 1, end = 5 }`"),
                 );
-            } else {
-                v.columns = Some(Columns {
-                    start: inner.start as usize,
-                    end: inner.end as usize,
-                    place,
-                });
             }
         }
         v.pattern = raw.pattern.map(|p| {
