@@ -26,7 +26,7 @@ fn escape(text: &str) -> String {
 }
 
 fn details(f: &Finding) -> String {
-    let mut s = format!("{} ({} cells)\n", f.message, f.count);
+    let mut s = format!("{} (count {})\n", f.message, f.count);
     for e in &f.examples {
         let _ = writeln!(
             s,

@@ -28,6 +28,7 @@ pub fn text(report: &LintReport, style: TextStyle) -> String {
     let mut out = String::new();
     for d in report.diagnostics {
         out.push_str(&render_miette(&d.to_report(report.sources), style));
+        out.push('\n');
     }
     let (errors, warnings) = (
         report.count(Severity::Error),
