@@ -214,7 +214,11 @@ fn route(col: &ColumnPlan, cell: Cell, universe: Tri, tally: &mut Tally) -> Opti
     let skipped = match cell {
         Cell::Invalid(rule) => return Some(rule.id()),
         Cell::Blank => match col.blank {
-            _ if col.key => return None,
+            // Reported once, as structure.id-blank; counted as invalid so the tallies add up.
+            _ if col.key => {
+                tally.invalid += 1;
+                return None;
+            }
             _ if col.identifier => return Some("value.blank"),
             Some(MissingKind::Skipped) => true,
             Some(kind) if universe != Tri::False => {
