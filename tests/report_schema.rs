@@ -161,13 +161,16 @@ max_length = 3
     assert_valid(&v, &stdin.json(), "shapes fixture on stdin");
 }
 
+/// A change that should make a valid report invalid.
+type Mutation = Box<dyn Fn(&mut Json)>;
+
 #[test]
 fn mutated_reports_fail() {
     let v = validator();
     let report = demo_report("codebook.toml", "wave2.csv");
     assert_valid(&v, &report, "wave2");
 
-    let mutations: Vec<(&str, Box<dyn Fn(&mut Json)>)> = vec![
+    let mutations: Vec<(&str, Mutation)> = vec![
         (
             "unknown rule id",
             Box::new(|r| r["findings"][0]["rule"] = json!("value.made-up")),
