@@ -4,6 +4,8 @@
 // Each test crate uses a different part of this module.
 #![allow(dead_code)]
 
+pub mod survey;
+
 use std::fs;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
