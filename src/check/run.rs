@@ -102,9 +102,13 @@ pub fn run(
             });
         }
         let ragged = match plan.expected_fields {
-            Some(n) => {
-                (record.len() != n).then(|| format!("{} fields, expected {n}", record.len()))
-            }
+            Some(n) => (record.len() != n).then(|| {
+                let got = record.len();
+                format!(
+                    "{got} field{}, expected {n}",
+                    if got == 1 { "" } else { "s" }
+                )
+            }),
             None => record
                 .length_problem()
                 .map(|p| format!("record length {}, expected {}", p.actual, p.expected)),
