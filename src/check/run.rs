@@ -102,9 +102,13 @@ pub fn run(
             });
         }
         let ragged = match plan.expected_fields {
-            Some(n) => {
-                (record.len() != n).then(|| format!("{} fields, expected {n}", record.len()))
-            }
+            Some(n) => (record.len() != n).then(|| {
+                let got = record.len();
+                format!(
+                    "{got} field{}, expected {n}",
+                    if got == 1 { "" } else { "s" }
+                )
+            }),
             None => record
                 .length_problem()
                 .map(|p| format!("record length {}, expected {}", p.actual, p.expected)),
@@ -214,7 +218,11 @@ fn route(col: &ColumnPlan, cell: Cell, universe: Tri, tally: &mut Tally) -> Opti
     let skipped = match cell {
         Cell::Invalid(rule) => return Some(rule.id()),
         Cell::Blank => match col.blank {
-            _ if col.key => return None,
+            // Reported once, as structure.id-blank; counted as invalid so the tallies add up.
+            _ if col.key => {
+                tally.invalid += 1;
+                return None;
+            }
             _ if col.identifier => return Some("value.blank"),
             Some(MissingKind::Skipped) => true,
             Some(kind) if universe != Tri::False => {
