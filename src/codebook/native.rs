@@ -27,6 +27,12 @@ pub struct Loaded {
 
 /// Read a native TOML codebook from its text. `path` is used in messages only.
 pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
+    parse_with(path, text, &super::Options::default())
+}
+
+/// Read a native TOML codebook; `options` apply to a DDI `base` it builds on.
+pub fn parse_with(path: &Path, text: String, options: &super::Options) -> Result<Loaded, LoadError> {
+    let _ = options;
     if text.trim().is_empty() {
         return Err(
             LoadError::file("codebook.empty", path, "the codebook file is empty").with_help(
