@@ -114,7 +114,7 @@ pub const LINT_RULES: &[Rule] = &[
         "IDs must be unique across the document, or references to them are ambiguous."),
     rule("lint.ddi-range-disagrees", Error, "a DDI category lies outside the variable's valid range",
         "A category code outside the variable's `valrng` that is not a missing code contradicts the \
-         range: either the range is too narrow, the code is missing-value code that lacks \
+         range: either the range is too narrow, the code is a missing-value code that lacks \
          `missing=\"Y\"`, or the code is mistyped. Also reported for a missing-value range concord \
          cannot list as codes."),
     rule("lint.ddi-category-without-value", Error, "a DDI category has no code (catValu)",
