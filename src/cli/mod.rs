@@ -5,6 +5,7 @@
 
 mod check;
 mod common;
+mod convert;
 mod lint;
 mod rules;
 
@@ -28,6 +29,8 @@ enum Command {
     Check(check::Args),
     /// Check a codebook's own consistency before any data is read.
     Lint(lint::Args),
+    /// Convert a codebook between DDI Codebook XML and native TOML.
+    Convert(convert::Args),
     /// List every rule concord reports, or explain one.
     Rules(rules::Args),
 }
@@ -44,6 +47,7 @@ pub fn main() -> ExitCode {
     let outcome = match cli.command {
         Command::Check(args) => check::run(args),
         Command::Lint(args) => lint::run(args),
+        Command::Convert(args) => convert::run(args),
         Command::Rules(args) => rules::run(args),
     };
     outcome.exit_code()

@@ -31,7 +31,11 @@ pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
 }
 
 /// Read a native TOML codebook; `options` apply to a DDI `base` it builds on.
-pub fn parse_with(path: &Path, text: String, options: &super::Options) -> Result<Loaded, LoadError> {
+pub fn parse_with(
+    path: &Path,
+    text: String,
+    options: &super::Options,
+) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
         return Err(
             LoadError::file("codebook.empty", path, "the codebook file is empty").with_help(
@@ -81,9 +85,8 @@ fn read_base(
     base: &Spanned<String>,
     options: &super::Options,
 ) -> Result<Loaded, LoadError> {
-    let error = |message: String| {
-        LoadError::at("codebook.base", path, &source.text, base.span(), message)
-    };
+    let error =
+        |message: String| LoadError::at("codebook.base", path, &source.text, base.span(), message);
     let base_path = path
         .parent()
         .unwrap_or_else(|| Path::new(""))
@@ -97,7 +100,9 @@ fn read_base(
             "the base `{}` is not DDI Codebook XML",
             base.get_ref()
         ))
-        .with_help("`base` names a DDI Codebook XML file; a native codebook cannot build on another"));
+        .with_help(
+            "`base` names a DDI Codebook XML file; a native codebook cannot build on another",
+        ));
     }
     super::ddi::parse(&base_path, text, options, 1)
 }

@@ -70,14 +70,21 @@ pub struct Options {
 }
 
 /// Read a DDI codebook from its text. Its places point at `Codebook::sources[file]`.
-pub fn parse(path: &Path, text: String, options: &Options, file: usize) -> Result<Loaded, LoadError> {
+pub fn parse(
+    path: &Path,
+    text: String,
+    options: &Options,
+    file: usize,
+) -> Result<Loaded, LoadError> {
     read::parse(path, text, options, file)
 }
 
 /// Does the text look like XML (its first character, after a byte-order mark and
 /// whitespace, is `<`)?
 pub fn looks_like_xml(text: &str) -> bool {
-    text.trim_start_matches('\u{feff}').trim_start().starts_with('<')
+    text.trim_start_matches('\u{feff}')
+        .trim_start()
+        .starts_with('<')
 }
 
 /// A code as DDI writes it: a plain decimal number becomes a number ("01" is 1), anything

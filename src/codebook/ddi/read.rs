@@ -16,7 +16,12 @@ type Span = std::ops::Range<usize>;
 
 /// Read a DDI codebook from its text. Places point at `sources[file]`, which the caller
 /// fills with this file.
-pub fn parse(path: &Path, text: String, options: &Options, file: usize) -> Result<Loaded, LoadError> {
+pub fn parse(
+    path: &Path,
+    text: String,
+    options: &Options,
+    file: usize,
+) -> Result<Loaded, LoadError> {
     let mut state = State {
         file,
         problems: Vec::new(),
@@ -114,7 +119,8 @@ impl State {
                 "titlStmt" => {
                     if self.title.is_none() {
                         self.title = e.child("titl").map(Element::text).filter(|t| !t.is_empty());
-                        self.study_id = e.child("IDNo").map(Element::text).filter(|t| !t.is_empty());
+                        self.study_id =
+                            e.child("IDNo").map(Element::text).filter(|t| !t.is_empty());
                     }
                 }
                 "notes" => {
@@ -137,7 +143,9 @@ impl State {
                     format!("the ID `{id}` is used by more than one element"),
                 )
                 .at(self.place(attr.span.clone()), "used again here")
-                .help("IDs must be unique across the whole document; references to it are ambiguous"),
+                .help(
+                    "IDs must be unique across the whole document; references to it are ambiguous",
+                ),
             );
         } else {
             self.ids.insert(id, attr.span.clone());
@@ -148,7 +156,8 @@ impl State {
         let Some(attr) = attr else { return Vec::new() };
         let targets: Vec<String> = attr.value.split_whitespace().map(str::to_string).collect();
         for t in &targets {
-            self.references.push((t.clone(), attr.span.clone(), what.to_string()));
+            self.references
+                .push((t.clone(), attr.span.clone(), what.to_string()));
         }
         targets
     }
@@ -156,11 +165,18 @@ impl State {
     fn file_description(&mut self, e: &Element) {
         let text = e.child("fileTxt");
         let mut cases = None;
-        if let Some(q) = text.and_then(|t| t.child("dimensns")).and_then(|d| d.child("caseQnty")) {
+        if let Some(q) = text
+            .and_then(|t| t.child("dimensns"))
+            .and_then(|d| d.child("caseQnty"))
+        {
             let value = q.text();
             match value.parse::<u64>() {
                 Ok(n) => cases = Some(n),
-                Err(_) => self.not_a_number((&value, q.text_span()), "caseQnty", "a whole number of cases"),
+                Err(_) => self.not_a_number(
+                    (&value, q.text_span()),
+                    "caseQnty",
+                    "a whole number of cases",
+                ),
             }
         }
         let encoding = text
@@ -186,7 +202,9 @@ impl State {
                 e.span.clone(),
                 "a <var> has no `name` attribute (or an empty one)",
             )
-            .with_help("every DDI variable needs name=\"...\": it is how the data file's column is found"));
+            .with_help(
+                "every DDI variable needs name=\"...\": it is how the data file's column is found",
+            ));
         };
         let name = name_attr.value.trim().to_string();
         // The kind is settled once categories and formats are read; start with a placeholder.
@@ -195,7 +213,10 @@ impl State {
         v.entry = self.place(e.span.clone());
         v.label = e.child("labl").map(Element::text).filter(|t| !t.is_empty());
         let mut files = self.refer(e.attr("files"), &format!("`files` of variable `{name}`"));
-        self.refer(e.attr("wgt-var"), &format!("`wgt-var` of variable `{name}`"));
+        self.refer(
+            e.attr("wgt-var"),
+            &format!("`wgt-var` of variable `{name}`"),
+        );
 
         let mut locations = Vec::new();
         for l in e.children("location") {
@@ -209,7 +230,11 @@ impl State {
         if let Some(d) = e.attr("dcml") {
             match d.value.trim().parse::<u32>() {
                 Ok(n) => v.decimals = Some(n),
-                Err(_) => self.not_a_number((&d.value, d.span.clone()), "`dcml`", "a whole number of decimal places"),
+                Err(_) => self.not_a_number(
+                    (&d.value, d.span.clone()),
+                    "`dcml`",
+                    "a whole number of decimal places",
+                ),
             }
         }
 
@@ -274,7 +299,12 @@ impl State {
                     Some(k) if k != MissingKind::Other => k,
                     _ => classify_missing(&label),
                 };
-                let entry = MissingCode { code, label, kind, place };
+                let entry = MissingCode {
+                    code,
+                    label,
+                    kind,
+                    place,
+                };
                 match listed_invalid {
                     Some(i) => missing[i] = entry,
                     None => missing.push(entry),
@@ -291,10 +321,19 @@ impl State {
                 let t = s.text();
                 match parse_plain_number(&t) {
                     Some(n) if n >= 0.0 && n.fract() == 0.0 => frequency = Some(n as u64),
-                    _ => self.not_a_number((&t, s.text_span()), &format!("a frequency of `{name}`"), "a whole number of cases"),
+                    _ => self.not_a_number(
+                        (&t, s.text_span()),
+                        &format!("a frequency of `{name}`"),
+                        "a whole number of cases",
+                    ),
                 }
             }
-            categories.push(Category { code, label, frequency, place });
+            categories.push(Category {
+                code,
+                label,
+                frequency,
+                place,
+            });
         }
         // Items without categories are the variable's valid codes: read them as categories.
         if categories.is_empty() && !valid_items.is_empty() {
@@ -318,8 +357,12 @@ impl State {
         }
 
         let format = e.child("varFormat");
-        let format_type = format.and_then(|f| f.attr_value("type")).unwrap_or("numeric");
-        let format_category = format.and_then(|f| f.attr_value("category")).unwrap_or("other");
+        let format_type = format
+            .and_then(|f| f.attr_value("type"))
+            .unwrap_or("numeric");
+        let format_category = format
+            .and_then(|f| f.attr_value("category"))
+            .unwrap_or("other");
         let representation = e.attr_value("representationType");
         let nature = e.attr_value("nature");
         let continuous = e.attr_value("intrvl") == Some("contin");
@@ -384,7 +427,11 @@ impl State {
             match a.value.trim().parse::<usize>() {
                 Ok(n) => Some(n),
                 Err(_) => {
-                    self.not_a_number((&a.value, a.span.clone()), &format!("`{attr}` of `{name}`"), "a whole number");
+                    self.not_a_number(
+                        (&a.value, a.span.clone()),
+                        &format!("`{attr}` of `{name}`"),
+                        "a whole number",
+                    );
                     None
                 }
             }
@@ -431,11 +478,21 @@ impl State {
         if let Some(d) = parse_iso_date(value) {
             return Some(RangeBound::Date(d));
         }
-        self.not_a_number((&a.value, a.span.clone()), &format!("a range bound of `{name}`"), "a number or an ISO 8601 date");
+        self.not_a_number(
+            (&a.value, a.span.clone()),
+            &format!("a range bound of `{name}`"),
+            "a number or an ISO 8601 date",
+        );
         None
     }
 
-    fn invalid_range(&mut self, r: &Range_, e: &Element, name: &str, missing: &mut Vec<MissingCode>) {
+    fn invalid_range(
+        &mut self,
+        r: &Range_,
+        e: &Element,
+        name: &str,
+        missing: &mut Vec<MissingCode>,
+    ) {
         const MOST: f64 = 1000.0;
         match (r.min, r.max) {
             (Some(RangeBound::Number(lo)), Some(RangeBound::Number(hi)))
@@ -463,9 +520,18 @@ impl State {
         }
     }
 
-    fn range_disagrees(&mut self, name: &str, ranges: &[Range_], items: &[Code], categories: &[Category], missing: &[MissingCode]) {
+    fn range_disagrees(
+        &mut self,
+        name: &str,
+        ranges: &[Range_],
+        items: &[Code],
+        categories: &[Category],
+        missing: &[MissingCode],
+    ) {
         for c in categories {
-            let Some(n) = c.code.as_number() else { continue };
+            let Some(n) = c.code.as_number() else {
+                continue;
+            };
             let inside = ranges.iter().any(|r| r.contains(n)) || items.contains(&c.code);
             if !inside && !missing.iter().any(|m| m.code == c.code) {
                 self.problems.push(
@@ -519,7 +585,11 @@ impl State {
             }
             let t = s.text();
             let Some(n) = parse_plain_number(&t) else {
-                self.not_a_number((&t, s.text_span()), &format!("the {kind} of `{name}`"), "a number");
+                self.not_a_number(
+                    (&t, s.text_span()),
+                    &format!("the {kind} of `{name}`"),
+                    "a number",
+                );
                 continue;
             };
             any = true;
@@ -528,7 +598,11 @@ impl State {
             }
             match kind {
                 "vald" if n >= 0.0 && n.fract() == 0.0 => d.valid = Some(n as u64),
-                "vald" => self.not_a_number((&t, s.text_span()), &format!("the valid count of `{name}`"), "a whole number"),
+                "vald" => self.not_a_number(
+                    (&t, s.text_span()),
+                    &format!("the valid count of `{name}`"),
+                    "a whole number",
+                ),
                 "mean" => d.mean = Some(n),
                 "stdev" => d.sd = Some(n),
                 "min" => d.min = Some(n),
@@ -538,7 +612,12 @@ impl State {
         any.then_some(d)
     }
 
-    fn finish(&mut self, path: &Path, text: &str, options: &Options) -> Result<Codebook, LoadError> {
+    fn finish(
+        &mut self,
+        path: &Path,
+        text: &str,
+        options: &Options,
+    ) -> Result<Codebook, LoadError> {
         let references = std::mem::take(&mut self.references);
         for (target, span, what) in references {
             if !self.ids.contains_key(&target) {
@@ -548,9 +627,14 @@ impl State {
                     format!("{what} refers to the ID `{target}`, which no element has"),
                 )
                 .at(self.place(span), "points nowhere");
-                let d = match crate::diagnostic::nearest(&target, self.ids.keys().map(String::as_str)) {
+                let d = match crate::diagnostic::nearest(
+                    &target,
+                    self.ids.keys().map(String::as_str),
+                ) {
                     Some(n) => d.help(format!("did you mean `{n}`?")),
-                    None if !known.is_empty() => d.help(format!("file IDs in this document: {}", known.join(", "))),
+                    None if !known.is_empty() => {
+                        d.help(format!("file IDs in this document: {}", known.join(", ")))
+                    }
                     None => d.help("correct the reference or give the target element this ID"),
                 };
                 self.problems.push(d);
@@ -571,6 +655,7 @@ impl State {
         };
         dataset.title = self.title.clone().filter(|t| *t != dataset.name);
         let mut layout = FileLayout::default();
+        let mut header = None;
         if let Some(i) = chosen {
             if let Some(e) = self.files[i].encoding {
                 layout.encoding = e;
@@ -588,7 +673,7 @@ impl State {
                             layout.quote = *b;
                         }
                     }
-                    "header" => layout.header = value != "false",
+                    "header" => header = Some(value != "false"),
                     _ => {}
                 }
             }
@@ -598,7 +683,10 @@ impl State {
                 "id" => {
                     dataset.id = value
                         .split_whitespace()
-                        .map(|n| Named { name: n.to_string(), place: None })
+                        .map(|n| Named {
+                            name: n.to_string(),
+                            place: None,
+                        })
                         .collect()
                 }
                 "blank" => dataset.blank = MissingKind::from_name(value),
@@ -623,13 +711,19 @@ impl State {
                 .or(r.locations.first())
                 .map(|(_, c)| *c);
             if r.weight && dataset.weight.is_none() {
-                dataset.weight = Some(Named { name: v.name.clone(), place: v.place });
+                dataset.weight = Some(Named {
+                    name: v.name.clone(),
+                    place: v.place,
+                });
             }
             variables.push(v);
         }
         if variables.iter().any(|v| v.columns.is_some()) {
             layout.layout = Layout::Fixed;
             layout.header = false;
+        }
+        if let Some(h) = header {
+            layout.header = h;
         }
         if variables.is_empty() {
             return Err(LoadError::file(
@@ -652,9 +746,18 @@ impl State {
     }
 
     /// The fileDscr the codebook describes: the one named by `--file-id`, or the only one.
-    fn choose_file(&self, path: &Path, text: &str, options: &Options) -> Result<Option<usize>, LoadError> {
+    fn choose_file(
+        &self,
+        path: &Path,
+        text: &str,
+        options: &Options,
+    ) -> Result<Option<usize>, LoadError> {
         let ids: Vec<&str> = self.files.iter().filter_map(|f| f.id.as_deref()).collect();
-        let listed = if ids.is_empty() { "(none have an ID)".to_string() } else { ids.join(", ") };
+        let listed = if ids.is_empty() {
+            "(none have an ID)".to_string()
+        } else {
+            ids.join(", ")
+        };
         match &options.file_id {
             Some(wanted) => match self.files.iter().position(|f| f.id.as_deref() == Some(wanted.as_str())) {
                 Some(i) => Ok(Some(i)),

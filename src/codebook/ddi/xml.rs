@@ -201,9 +201,14 @@ pub fn walk(
                             return Err(error(
                                 "ddi.unknown-namespace",
                                 start..end,
-                                format!("<codeBook> is in namespace `{n}`, which is not DDI Codebook"),
+                                format!(
+                                    "<codeBook> is in namespace `{n}`, which is not DDI Codebook"
+                                ),
                             )
-                            .with_help(format!("concord reads the namespaces {}, or none", NAMESPACES.join(", "))));
+                            .with_help(format!(
+                                "concord reads the namespaces {}, or none",
+                                NAMESPACES.join(", ")
+                            )));
                         }
                     }
                     root_ns = Some(namespace.clone());
@@ -250,7 +255,9 @@ pub fn walk(
                         error("ddi.syntax", start..end, format!("cannot read this text: {e}"))
                             .with_help("only the predefined entities (&amp; &lt; &gt; &quot; &apos;) and character references are allowed")
                     })?;
-                    parent.children.push(Node::Text(value.into_owned(), start..end));
+                    parent
+                        .children
+                        .push(Node::Text(value.into_owned(), start..end));
                 }
             }
             Event::CData(t) => {
@@ -282,8 +289,11 @@ pub fn walk(
                     format!("the file ends inside <{open}>: it is truncated")
                 };
                 let at = text.len();
-                return Err(error("ddi.truncated", at.saturating_sub(1)..at, message)
-                    .with_help("the file may have been cut off while copying; get a complete copy"));
+                return Err(
+                    error("ddi.truncated", at.saturating_sub(1)..at, message).with_help(
+                        "the file may have been cut off while copying; get a complete copy",
+                    ),
+                );
             }
             Event::Decl(_) | Event::PI(_) | Event::Comment(_) => {}
         }
@@ -329,7 +339,12 @@ fn open(
         };
         let value = attr
             .unescape_value()
-            .map_err(|e| (value_span.clone(), format!("cannot read attribute `{name}`: {e}")))?
+            .map_err(|e| {
+                (
+                    value_span.clone(),
+                    format!("cannot read attribute `{name}`: {e}"),
+                )
+            })?
             .into_owned();
         attrs.push(Attr {
             name,
