@@ -1,6 +1,6 @@
 //! DDI Codebook XML -> the codebook model (the mapping is described in [`super`]).
 
-use std::collections::HashMap;
+use std::collections::HashSet;
 use std::path::Path;
 use std::sync::Arc;
 
@@ -25,7 +25,7 @@ pub fn parse(
     let mut state = State {
         file,
         problems: Vec::new(),
-        ids: HashMap::new(),
+        ids: HashSet::new(),
         references: Vec::new(),
         files: Vec::new(),
         variables: Vec::new(),
@@ -82,8 +82,8 @@ struct ReadVariable {
 struct State {
     file: usize,
     problems: Vec<Diagnostic>,
-    /// Every ID in the document, with the place of its first use.
-    ids: HashMap<String, Span>,
+    /// Every ID in the document.
+    ids: HashSet<String>,
     /// IDREFs to check once every ID is known: (target, span, what refers).
     references: Vec<(String, Span, String)>,
     files: Vec<FileDescription>,
@@ -116,12 +116,9 @@ impl State {
             Visit::Part(e) => match e.name.as_str() {
                 "fileDscr" => self.file_description(&e),
                 "var" => self.variable(path, text, &e)?,
-                "titlStmt" => {
-                    if self.title.is_none() {
-                        self.title = e.child("titl").map(Element::text).filter(|t| !t.is_empty());
-                        self.study_id =
-                            e.child("IDNo").map(Element::text).filter(|t| !t.is_empty());
-                    }
+                "titlStmt" if self.title.is_none() => {
+                    self.title = e.child("titl").map(Element::text).filter(|t| !t.is_empty());
+                    self.study_id = e.child("IDNo").map(Element::text).filter(|t| !t.is_empty());
                 }
                 "notes" => {
                     if let Some(n) = concord_note(&e) {
@@ -136,7 +133,7 @@ impl State {
 
     fn id(&mut self, attr: &Attr) {
         let id = attr.value.trim().to_string();
-        if self.ids.contains_key(&id) {
+        if !self.ids.insert(id.clone()) {
             self.problems.push(
                 Diagnostic::new(
                     "lint.ddi-duplicate-id",
@@ -147,8 +144,6 @@ impl State {
                     "IDs must be unique across the whole document; references to it are ambiguous",
                 ),
             );
-        } else {
-            self.ids.insert(id, attr.span.clone());
         }
     }
 
@@ -620,7 +615,7 @@ impl State {
     ) -> Result<Codebook, LoadError> {
         let references = std::mem::take(&mut self.references);
         for (target, span, what) in references {
-            if !self.ids.contains_key(&target) {
+            if !self.ids.contains(&target) {
                 let known: Vec<&str> = self.files.iter().filter_map(|f| f.id.as_deref()).collect();
                 let d = Diagnostic::new(
                     "lint.ddi-broken-reference",
@@ -629,7 +624,7 @@ impl State {
                 .at(self.place(span), "points nowhere");
                 let d = match crate::diagnostic::nearest(
                     &target,
-                    self.ids.keys().map(String::as_str),
+                    self.ids.iter().map(String::as_str),
                 ) {
                     Some(n) => d.help(format!("did you mean `{n}`?")),
                     None if !known.is_empty() => {
