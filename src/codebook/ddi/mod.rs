@@ -50,6 +50,7 @@
 //! the writer lists them as not carried exactly.
 
 mod read;
+mod variable;
 pub mod write;
 mod xml;
 
