@@ -102,6 +102,23 @@ pub const LINT_RULES: &[Rule] = &[
     rule("lint.fixed-columns-gap", Warning, "fixed columns leave characters unread",
         "Characters between two variables' columns are read by no variable. Often that is filler, \
          but it can also be a variable missing from the codebook."),
+    // DDI Codebook XML: problems a schema validator does not see, found while reading.
+    rule("lint.ddi-broken-reference", Error, "a DDI reference (IDREF) points at no element",
+        "`var/@files`, `location/@fileid` and `var/@wgt-var` name other elements by their ID. A \
+         reference to an ID that no element has leaves the variable without its file or weight; \
+         usually the ID is mistyped."),
+    rule("lint.ddi-not-a-number", Error, "a DDI attribute or value that must be a number is not",
+        "DDI writes positions, decimals, case counts, frequencies and statistics as strings, so \
+         `StartPos=\"one\"` is schema valid. concord needs the numbers; the value was ignored."),
+    rule("lint.ddi-duplicate-id", Error, "two DDI elements share an ID",
+        "IDs must be unique across the document, or references to them are ambiguous."),
+    rule("lint.ddi-range-disagrees", Error, "a DDI category lies outside the variable's valid range",
+        "A category code outside the variable's `valrng` that is not a missing code contradicts the \
+         range: either the range is too narrow, the code is a missing-value code that lacks \
+         `missing=\"Y\"`, or the code is mistyped. Also reported for a missing-value range concord \
+         cannot list as codes."),
+    rule("lint.ddi-category-without-value", Error, "a DDI category has no code (catValu)",
+        "A `catgry` without `catValu` labels no code, so it was ignored. Give it its code."),
 ];
 
 /// Rules about a data file, reported by `concord check`.

@@ -151,11 +151,11 @@ fn an_unknown_kind_suggests_the_nearest() {
 }
 
 #[test]
-fn a_ddi_base_is_not_supported_yet() {
+fn a_missing_ddi_base_is_named() {
     could_not_run(
         &fixture("base-ddi"),
-        "codebook.invalid",
-        &["line 5, column 8", "not supported yet"],
+        "codebook.base",
+        &["line 5, column 8", "cannot read the base codebook", "x.xml"],
     );
 }
 

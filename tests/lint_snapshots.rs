@@ -1,7 +1,7 @@
 //! `concord lint` output, snapshot by snapshot: one failing fixture per lint rule.
 //!
-//! Each rule of `LINT_RULES` has `tests/fixtures/lint/<rule-without-lint.>.toml`, a tiny
-//! codebook that breaks that rule, and next to it `<name>.expected`, the exact plain-text
+//! Each rule of `LINT_RULES` has `tests/fixtures/lint/<rule-without-lint.>.toml` (or `.xml`
+//! for the DDI rules), a tiny codebook that breaks that rule, and next to it `<name>.expected`, the exact plain-text
 //! output of `concord lint` on it. The binary runs from the crate root with the fixture path
 //! relative to it, so the paths in the output are stable; stdout is a pipe, so there is no
 //! colour and the width is 100.
@@ -89,8 +89,33 @@ fn diff(expected: &str, actual: &str) -> String {
     out
 }
 
-/// The fixture's `# Lint fixture:` line must be first, or second after `# not-a-codebook`.
+/// The fixture of a rule: native TOML, or DDI XML for the DDI rules.
+fn fixture_of(name: &str) -> String {
+    let xml = format!("{FIXTURES}/{name}.xml");
+    if root().join(&xml).is_file() {
+        xml
+    } else {
+        format!("{FIXTURES}/{name}.toml")
+    }
+}
+
+/// The fixture's `# Lint fixture:` line must be first, or second after `# not-a-codebook`;
+/// an XML fixture says the same in a `<!-- Lint fixture: ... -->` comment after the declaration.
 fn check_header(path: &Path, text: &str) -> Result<(), String> {
+    if path.extension().is_some_and(|e| e == "xml") {
+        return if text
+            .lines()
+            .take(2)
+            .any(|l| l.starts_with("<!-- Lint fixture: "))
+        {
+            Ok(())
+        } else {
+            Err(format!(
+                "{}: the second line should be `<!-- Lint fixture: ... -->`",
+                path.display()
+            ))
+        };
+    }
     let mut lines = text.lines();
     let first = lines.next().unwrap_or("");
     let describing = if first.trim_end() == "# not-a-codebook" {
@@ -113,7 +138,7 @@ fn check_header(path: &Path, text: &str) -> Result<(), String> {
 fn every_lint_rule_has_a_fixture() {
     let missing: Vec<String> = LINT_RULES
         .iter()
-        .map(|r| format!("{FIXTURES}/{}.toml", fixture_name(r.id)))
+        .map(|r| fixture_of(fixture_name(r.id)))
         .filter(|p| !root().join(p).is_file())
         .collect();
     assert!(
@@ -146,7 +171,7 @@ fn lint_output_matches_the_snapshots() {
     let mut failures = Vec::new();
     for rule in LINT_RULES {
         let name = fixture_name(rule.id);
-        let fixture = format!("{FIXTURES}/{name}.toml");
+        let fixture = fixture_of(name);
         let expected_path = root().join(format!("{FIXTURES}/{name}.expected"));
         let Ok(text) = fs::read_to_string(root().join(&fixture)) else {
             continue; // reported by every_lint_rule_has_a_fixture

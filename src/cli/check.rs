@@ -12,8 +12,11 @@ use crate::report;
 
 #[derive(clap::Args)]
 pub struct Args {
-    /// The codebook file (native TOML).
+    /// The codebook file (native TOML or DDI Codebook XML).
     codebook: PathBuf,
+    /// The DDI fileDscr to describe, when a DDI codebook has several.
+    #[arg(long, value_name = "ID")]
+    file_id: Option<String>,
     /// The data file (CSV, TSV, fixed-width; gzip is detected); `-` reads standard input.
     data: PathBuf,
     /// Output format.
@@ -62,7 +65,12 @@ enum EncodingArg {
 }
 
 pub fn run(args: Args) -> Outcome {
-    let loaded = match codebook::load(&args.codebook) {
+    let loaded = match codebook::load_with(
+        &args.codebook,
+        &codebook::Options {
+            file_id: args.file_id.clone(),
+        },
+    ) {
         Ok(l) => l,
         Err(e) => return could_not_run(e),
     };

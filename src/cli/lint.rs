@@ -10,8 +10,11 @@ use crate::report::lint::{self as render, LintReport};
 
 #[derive(clap::Args)]
 pub struct Args {
-    /// The codebook file (native TOML).
+    /// The codebook file (native TOML or DDI Codebook XML).
     codebook: PathBuf,
+    /// The DDI fileDscr to describe, when a DDI codebook has several.
+    #[arg(long, value_name = "ID")]
+    file_id: Option<String>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
@@ -33,7 +36,12 @@ enum Format {
 }
 
 pub fn run(args: Args) -> Outcome {
-    let loaded = match codebook::load(&args.codebook) {
+    let loaded = match codebook::load_with(
+        &args.codebook,
+        &codebook::Options {
+            file_id: args.file_id.clone(),
+        },
+    ) {
         Ok(l) => l,
         Err(e) => return could_not_run(e),
     };

@@ -5,6 +5,7 @@
 
 mod check;
 mod common;
+mod convert;
 mod extract;
 mod lint;
 mod rules;
@@ -31,6 +32,8 @@ enum Command {
     Extract(extract::Args),
     /// Check a codebook's own consistency before any data is read.
     Lint(lint::Args),
+    /// Convert a codebook between DDI Codebook XML and native TOML.
+    Convert(convert::Args),
     /// List every rule concord reports, or explain one.
     Rules(rules::Args),
 }
@@ -48,6 +51,7 @@ pub fn main() -> ExitCode {
         Command::Check(args) => check::run(args),
         Command::Extract(args) => extract::run(args),
         Command::Lint(args) => lint::run(args),
+        Command::Convert(args) => convert::run(args),
         Command::Rules(args) => rules::run(args),
     };
     outcome.exit_code()

@@ -373,6 +373,9 @@ pub struct Variable {
     pub decimals: Option<u32>,
     /// Who is asked; `None` means everyone.
     pub universe: Option<ConditionText>,
+    /// The universe as prose, when the codebook describes it only in words (a DDI
+    /// `universe` element). Documentation only: the checker never reads it.
+    pub universe_text: Option<String>,
     /// Meaning of an empty cell; overrides `dataset.blank`.
     pub blank: Option<MissingKind>,
     pub columns: Option<Columns>,
@@ -396,6 +399,7 @@ impl Variable {
             range: None,
             decimals: None,
             universe: None,
+            universe_text: None,
             blank: None,
             columns: None,
             pattern: None,

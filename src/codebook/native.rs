@@ -27,6 +27,15 @@ pub struct Loaded {
 
 /// Read a native TOML codebook from its text. `path` is used in messages only.
 pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
+    parse_with(path, text, &super::Options::default())
+}
+
+/// Read a native TOML codebook; `options` apply to a DDI `base` it builds on.
+pub fn parse_with(
+    path: &Path,
+    text: String,
+    options: &super::Options,
+) -> Result<Loaded, LoadError> {
     if text.trim().is_empty() {
         return Err(
             LoadError::file("codebook.empty", path, "the codebook file is empty").with_help(
@@ -39,18 +48,63 @@ pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
         path: path.to_path_buf(),
         text,
     });
+    // A `base` DDI codebook is read first; its places point at sources[1].
+    let base = match raw.dataset.as_ref().and_then(|d| d.get_ref().base.as_ref()) {
+        Some(b) => Some(read_base(path, &source, b, options)?),
+        None => None,
+    };
     let mut reader = Reader {
         source: &source,
         problems: Vec::new(),
+        overlay: base.is_some(),
     };
-    let codebook = reader.codebook(raw)?;
+    let (base, mut problems, base_source) = match base {
+        Some(b) => {
+            let source = b.codebook.sources.last().cloned();
+            (Some(b.codebook), b.problems, source)
+        }
+        None => (None, Vec::new(), None),
+    };
+    let codebook = reader.codebook(raw, base)?;
+    problems.extend(reader.problems);
+    let mut sources = vec![source.clone()];
+    sources.extend(base_source);
     Ok(Loaded {
         codebook: Codebook {
-            sources: vec![source.clone()],
+            sources,
             ..codebook
         },
-        problems: reader.problems,
+        problems,
     })
+}
+
+/// Read the DDI codebook named by `[dataset] base`, relative to the native file's folder.
+fn read_base(
+    path: &Path,
+    source: &SourceFile,
+    base: &Spanned<String>,
+    options: &super::Options,
+) -> Result<Loaded, LoadError> {
+    let error =
+        |message: String| LoadError::at("codebook.base", path, &source.text, base.span(), message);
+    let base_path = path
+        .parent()
+        .unwrap_or_else(|| Path::new(""))
+        .join(base.get_ref());
+    let text = super::error::read_text(&base_path, "DDI codebook").map_err(|e| {
+        error(format!("cannot read the base codebook: {e}"))
+            .with_help("`base` is a path relative to this file's folder")
+    })?;
+    if !super::ddi::looks_like_xml(&text) {
+        return Err(error(format!(
+            "the base `{}` is not DDI Codebook XML",
+            base.get_ref()
+        ))
+        .with_help(
+            "`base` names a DDI Codebook XML file; a native codebook cannot build on another",
+        ));
+    }
+    super::ddi::parse(&base_path, text, options, 1)
 }
 
 fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
@@ -106,7 +160,7 @@ struct RawCodebook {
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawDataset {
-    name: String,
+    name: Option<Spanned<String>>,
     title: Option<String>,
     cases: Option<Spanned<i64>>,
     id: Option<Spanned<OneOrMany>>,
@@ -165,7 +219,8 @@ enum RawKind {
 struct RawVariable {
     name: Spanned<String>,
     label: Option<String>,
-    kind: RawKind,
+    /// Required, except in an entry that overrides a variable of the `base` codebook.
+    kind: Option<Spanned<RawKind>>,
     categories: Option<Vec<Spanned<RawCategory>>>,
     missing: Option<Vec<Spanned<RawMissing>>>,
     range: Option<Spanned<RawRange>>,
@@ -264,6 +319,8 @@ struct RawCheck {
 struct Reader<'a> {
     source: &'a Arc<SourceFile>,
     problems: Vec<Diagnostic>,
+    /// Building on a `base` DDI codebook.
+    overlay: bool,
 }
 
 impl Reader<'_> {
@@ -285,7 +342,11 @@ impl Reader<'_> {
         self.problems.push(d);
     }
 
-    fn codebook(&mut self, raw: RawCodebook) -> Result<Codebook, LoadError> {
+    fn codebook(
+        &mut self,
+        raw: RawCodebook,
+        base: Option<Codebook>,
+    ) -> Result<Codebook, LoadError> {
         let Some(dataset) = raw.dataset else {
             return Err(LoadError::file(
                 "codebook.no-dataset",
@@ -294,12 +355,17 @@ impl Reader<'_> {
             )
             .with_help("add a [dataset] table with at least `name = \"...\"`"));
         };
-        let dataset = self.dataset(dataset)?;
-        let file = match raw.file {
-            Some(f) => self.file_layout(f)?,
-            None => FileLayout::default(),
+        let (base_dataset, base_file, mut variables) = match base {
+            Some(b) => (Some(b.dataset), b.file, b.variables),
+            None => (None, FileLayout::default(), Vec::new()),
         };
-        if raw.variables.is_empty() {
+        let overlay = base_dataset.is_some();
+        let dataset = self.dataset(dataset, base_dataset)?;
+        let file = match raw.file {
+            Some(f) => self.file_layout(f, base_file)?,
+            None => base_file,
+        };
+        if raw.variables.is_empty() && !overlay {
             return Err(LoadError::file(
                 "codebook.no-variables",
                 &self.source.path,
@@ -307,11 +373,26 @@ impl Reader<'_> {
             )
             .with_help("add one [[variables]] entry per column of the data file"));
         }
-        let variables = raw
-            .variables
-            .into_iter()
-            .map(|v| self.variable(v))
-            .collect::<Result<Vec<_>, _>>()?;
+        // Over a base, an entry naming a base variable overrides the keys it writes; an entry
+        // naming a variable the base lacks adds it, and then must declare its kind.
+        for raw in raw.variables {
+            let name = raw.get_ref().name.get_ref().clone();
+            let found = if overlay {
+                variables.iter().position(|v| v.name == name)
+            } else {
+                None
+            };
+            match found {
+                Some(i) => {
+                    let merged = self.variable(raw, Some(&variables[i]))?;
+                    variables[i] = merged;
+                }
+                None => {
+                    let v = self.variable(raw, None)?;
+                    variables.push(v);
+                }
+            }
+        }
         let checks = raw.checks.into_iter().map(|c| self.check(c)).collect();
         Ok(Codebook {
             dataset,
@@ -322,28 +403,38 @@ impl Reader<'_> {
         })
     }
 
-    fn dataset(&mut self, raw: Spanned<RawDataset>) -> Result<Dataset, LoadError> {
+    /// The dataset table; over a `base`, the keys written here override the base's.
+    fn dataset(
+        &mut self,
+        raw: Spanned<RawDataset>,
+        base: Option<Dataset>,
+    ) -> Result<Dataset, LoadError> {
         let place = self.place(&raw);
         let raw = raw.into_inner();
-        if let Some(base) = &raw.base {
-            return Err(self
-                .error_at(
-                    base,
-                    "`base` (building on a DDI codebook) is not supported yet",
+        let name = match (raw.name, &base) {
+            (Some(n), _) => n.into_inner(),
+            (None, Some(b)) => b.name.clone(),
+            (None, None) => {
+                return Err(LoadError::at(
+                    "codebook.invalid",
+                    &self.source.path,
+                    &self.source.text,
+                    place.map_or(0..0, |p| p.offset..p.offset + p.len),
+                    "[dataset] has no `name`",
                 )
-                .with_help(
-                    "write the variables in this file instead of reading them from a DDI base",
-                ));
-        }
+                .with_help("add `name = \"...\"`, a short machine name for the dataset"))
+            }
+        };
+        let base = base.unwrap_or_default();
         let cases = match raw.cases {
             Some(c) if *c.get_ref() < 0 => {
                 return Err(self.error_at(&c, "`cases` must not be negative"))
             }
             Some(c) => Some(*c.get_ref() as u64),
-            None => None,
+            None => base.cases,
         };
         let id = match raw.id {
-            None => Vec::new(),
+            None => base.id,
             Some(id) => {
                 let place = self.place(&id);
                 let names = match id.into_inner() {
@@ -356,24 +447,35 @@ impl Reader<'_> {
                     .collect()
             }
         };
+        let blank = match raw.blank {
+            Some(b) => self.missing_kind(&b),
+            None => base.blank,
+        };
         Ok(Dataset {
-            name: raw.name,
-            title: raw.title,
+            name,
+            title: raw.title.or(base.title),
             cases,
             id,
-            weight: raw.weight.map(|w| Named {
-                place: self.place(&w),
-                name: w.into_inner(),
-            }),
-            blank: raw.blank.and_then(|b| self.missing_kind(&b)),
+            weight: raw
+                .weight
+                .map(|w| Named {
+                    place: self.place(&w),
+                    name: w.into_inner(),
+                })
+                .or(base.weight),
+            blank,
             place,
         })
     }
 
-    fn file_layout(&mut self, raw: Spanned<RawFile>) -> Result<FileLayout, LoadError> {
+    /// The file table; keys left out keep `defaults` (the base's layout, or the defaults).
+    fn file_layout(
+        &mut self,
+        raw: Spanned<RawFile>,
+        defaults: FileLayout,
+    ) -> Result<FileLayout, LoadError> {
         let place = self.place(&raw);
         let raw = raw.into_inner();
-        let defaults = FileLayout::default();
         let delimiter = match &raw.delimiter {
             Some(d) => self.single_byte(d, "delimiter")?,
             None => defaults.delimiter,
@@ -385,12 +487,14 @@ impl Reader<'_> {
         Ok(FileLayout {
             layout: match raw.layout {
                 Some(RawLayout::Fixed) => Layout::Fixed,
-                Some(RawLayout::Delimited) | None => Layout::Delimited,
+                Some(RawLayout::Delimited) => Layout::Delimited,
+                None => defaults.layout,
             },
             delimiter,
             header: raw.header.unwrap_or(defaults.header),
             encoding: match raw.encoding {
-                Some(RawEncoding::Utf8) | None => Encoding::Utf8,
+                None => defaults.encoding,
+                Some(RawEncoding::Utf8) => Encoding::Utf8,
                 Some(RawEncoding::Latin1) => Encoding::Latin1,
                 Some(RawEncoding::Windows1252) => Encoding::Windows1252,
             },
@@ -444,21 +548,65 @@ impl Reader<'_> {
         }
     }
 
-    fn variable(&mut self, raw: Spanned<RawVariable>) -> Result<Variable, LoadError> {
+    /// A variable entry; with `base`, the entry overrides only the keys it writes.
+    fn variable(
+        &mut self,
+        raw: Spanned<RawVariable>,
+        base: Option<&Variable>,
+    ) -> Result<Variable, LoadError> {
         let entry = self.place(&raw);
+        let entry_span = raw.span();
         let raw = raw.into_inner();
-        let kind = match raw.kind {
+        let kind = raw.kind.as_ref().map(|k| match k.get_ref() {
             RawKind::Categorical => Kind::Categorical,
             RawKind::Ordinal => Kind::Ordinal,
             RawKind::Numeric => Kind::Numeric,
             RawKind::Text => Kind::Text,
             RawKind::Date => Kind::Date,
             RawKind::Identifier => Kind::Identifier,
+        });
+        let mut v = match (base, kind) {
+            (Some(b), k) => Variable {
+                kind: k.unwrap_or(b.kind),
+                ..b.clone()
+            },
+            (None, Some(k)) => Variable::new(raw.name.get_ref().clone(), k),
+            (None, None) => {
+                let message = if self.overlay {
+                    format!(
+                        "variable `{}` is not in the base codebook, so this entry adds it and needs a `kind`",
+                        raw.name.get_ref()
+                    )
+                } else {
+                    format!("variable `{}` has no `kind`", raw.name.get_ref())
+                };
+                return Err(LoadError::at(
+                    "codebook.invalid",
+                    &self.source.path,
+                    &self.source.text,
+                    entry_span,
+                    message,
+                )
+                .with_help(format!(
+                    "add `kind = ...`, one of {}{}",
+                    quote_list(&Kind::ALL.map(Kind::name)),
+                    if self.overlay {
+                        "; or correct the name to one of the base's variables"
+                    } else {
+                        ""
+                    }
+                )));
+            }
         };
-        let mut v = Variable::new(raw.name.get_ref().clone(), kind);
+        let kind = v.kind;
         v.place = self.place(&raw.name);
         v.entry = entry;
-        v.label = raw.label;
+        if raw.label.is_some() {
+            v.label = raw.label;
+        }
+        if raw.categories.is_some() {
+            v.categories.clear();
+        }
         for c in raw.categories.unwrap_or_default() {
             let place = self.place(&c);
             let c = c.into_inner();
@@ -475,6 +623,9 @@ impl Reader<'_> {
                 frequency,
                 place,
             });
+        }
+        if raw.missing.is_some() {
+            v.missing.clear();
         }
         for m in raw.missing.unwrap_or_default() {
             let place = self.place(&m);
@@ -512,8 +663,12 @@ impl Reader<'_> {
                 ),
             }
         }
-        v.universe = raw.universe.map(|u| self.condition(u));
-        v.blank = raw.blank.and_then(|b| self.missing_kind(&b));
+        if let Some(u) = raw.universe {
+            v.universe = Some(self.condition(u));
+        }
+        if let Some(b) = raw.blank {
+            v.blank = self.missing_kind(&b);
+        }
         if let Some(c) = raw.columns {
             let place = self.place(&c);
             let inner = c.get_ref();
@@ -538,7 +693,7 @@ impl Reader<'_> {
                 );
             }
         }
-        v.pattern = raw.pattern.map(|p| {
+        if let Some(p) = raw.pattern {
             if let Err(e) = regex::Regex::new(p.get_ref()) {
                 self.problem(
                     Diagnostic::new(
@@ -552,8 +707,8 @@ impl Reader<'_> {
                     .help(first_line(&e.to_string())),
                 );
             }
-            p.into_inner()
-        });
+            v.pattern = Some(p.into_inner());
+        }
         if let Some(m) = raw.max_length {
             match u64::try_from(*m.get_ref()) {
                 Ok(n) if n > 0 => v.max_length = Some(n),

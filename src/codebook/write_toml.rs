@@ -5,7 +5,8 @@
 //! hand-made rather than serde-derived so the output looks like a codebook a person would
 //! write: one `[[variables]]` table each, categories as inline tables in their declared
 //! order (the level order of every table), and comments where the writer has something to
-//! say about a variable.
+//! say about a variable. A universe known only as prose (from DDI) becomes a comment above
+//! the variable, since the native `universe` key holds conditions.
 
 use std::fmt::Write;
 
@@ -111,7 +112,14 @@ fn file(out: &mut String, f: &FileLayout) {
     let _ = writeln!(out, "encoding = {}", quoted(f.encoding.name()));
 }
 
+fn one_line(s: &str) -> String {
+    s.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
 fn variable(out: &mut String, v: &Variable) {
+    if let Some(u) = &v.universe_text {
+        let _ = writeln!(out, "# Universe (prose, not a condition): {}", one_line(u));
+    }
     let _ = writeln!(out, "[[variables]]");
     let _ = writeln!(out, "name = {}", quoted(&v.name));
     if let Some(l) = &v.label {
