@@ -17,3 +17,4 @@ pub mod diagnostic;
 pub mod output;
 pub mod report;
 pub mod rules;
+pub mod tables;

@@ -7,6 +7,7 @@ mod check;
 mod common;
 mod lint;
 mod rules;
+mod tally;
 
 use std::process::ExitCode;
 
@@ -30,6 +31,8 @@ enum Command {
     Lint(lint::Args),
     /// List every rule concord reports, or explain one.
     Rules(rules::Args),
+    /// Frequency tables, cross-tabulations and by-group summaries with labels.
+    Tally(tally::Args),
 }
 
 /// Run the command line and return its exit code.
@@ -45,6 +48,7 @@ pub fn main() -> ExitCode {
         Command::Check(args) => check::run(args),
         Command::Lint(args) => lint::run(args),
         Command::Rules(args) => rules::run(args),
+        Command::Tally(args) => tally::run(args),
     };
     outcome.exit_code()
 }
