@@ -27,7 +27,13 @@ fn wilson_matches_newcombe_1998() {
         (81, 263, 0.2553, 0.3662, "Newcombe 1998, confirmed"),
         (15, 148, 0.0624, 0.1605, "Newcombe 1998, confirmed"),
         (0, 20, 0.0, 0.1611, "Newcombe 1998, from memory, recomputed"),
-        (1, 29, 0.0061, 0.1718, "Newcombe 1998, from memory, recomputed"),
+        (
+            1,
+            29,
+            0.0061,
+            0.1718,
+            "Newcombe 1998, from memory, recomputed",
+        ),
     ];
     for (x, n, low, high, source) in cases {
         let (l, h) = wilson_count(x, n).unwrap();
@@ -46,6 +52,8 @@ fn chi_square_matches_agresti_2007() {
 }
 
 #[test]
+// The p-value is written as the docstring prints it, past f64's precision.
+#[allow(clippy::excessive_precision)]
 fn chi_square_matches_scipy_chi2_contingency_docstring() {
     // scipy.stats.chi2_contingency docstring example.
     let test = chi_square(&[vec![10, 10, 20], vec![20, 20, 20]]).unwrap();
@@ -74,7 +82,12 @@ fn kish_matches_the_toy_example() {
     let w = [1.0f64, 1.0, 1.0, 3.0];
     let (sum, sum2) = (w.iter().sum::<f64>(), w.iter().map(|x| x * x).sum::<f64>());
     close(kish_effective_n(sum, sum2).unwrap(), 3.0, 1e-12, "n_eff");
-    close(round4(kish_design_effect(4, sum, sum2).unwrap()), 1.3333, 0.0, "deff");
+    close(
+        round4(kish_design_effect(4, sum, sum2).unwrap()),
+        1.3333,
+        0.0,
+        "deff",
+    );
 }
 
 #[test]
@@ -109,7 +122,12 @@ fn quartiles_match_hyndman_fan_type_7() {
     close(quantile_type7(&sorted, 0.9).unwrap(), 9.1, 1e-12, "P90");
     // Repeated values held as counts give the same order statistics.
     let counted = [(1.0, 2), (2.0, 2)];
-    close(quantile_type7(&counted, 0.5).unwrap(), 1.5, 1e-12, "median of 1,1,2,2");
+    close(
+        quantile_type7(&counted, 0.5).unwrap(),
+        1.5,
+        1e-12,
+        "median of 1,1,2,2",
+    );
 }
 
 #[test]
@@ -129,6 +147,11 @@ fn running_mean_and_sd_match_nist_strd() {
         four.push(10000000.1, 1.0);
         four.push(10000000.3, 1.0);
     }
-    close(four.mean().unwrap(), 10000000.2, 1e-15 * 1e7, "NumAcc4 mean");
+    close(
+        four.mean().unwrap(),
+        10000000.2,
+        1e-15 * 1e7,
+        "NumAcc4 mean",
+    );
     close(four.sd().unwrap(), 0.1, 1e-7, "NumAcc4 s");
 }
