@@ -151,8 +151,10 @@ fn overview(report: &TallyReport) -> String {
             "; weighted by {} (sum {:.1}, Kish effective n {}, design effect {})",
             w.variable,
             w.sum,
-            grid::fixed(w.effective_n, 1),
-            grid::fixed(w.design_effect, 3),
+            w.effective_n
+                .map_or("n/a".to_string(), |n| format!("{n:.1}")),
+            w.design_effect
+                .map_or("n/a".to_string(), |d| format!("{d:.3}")),
         );
     } else {
         line.push_str("; unweighted");
