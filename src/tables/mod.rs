@@ -7,6 +7,7 @@
 //! flags. The renderers in [`render`] only format it.
 
 pub mod build;
+mod crossing;
 pub mod model;
 pub mod pass;
 pub mod render;
