@@ -18,3 +18,4 @@ pub mod extract;
 pub mod output;
 pub mod report;
 pub mod rules;
+pub mod tables;

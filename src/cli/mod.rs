@@ -9,6 +9,7 @@ mod convert;
 mod extract;
 mod lint;
 mod rules;
+mod tally;
 
 use std::process::ExitCode;
 
@@ -36,6 +37,8 @@ enum Command {
     Convert(convert::Args),
     /// List every rule concord reports, or explain one.
     Rules(rules::Args),
+    /// Frequency tables, cross-tabulations and by-group summaries with labels.
+    Tally(tally::Args),
 }
 
 /// Run the command line and return its exit code.
@@ -53,6 +56,7 @@ pub fn main() -> ExitCode {
         Command::Lint(args) => lint::run(args),
         Command::Convert(args) => convert::run(args),
         Command::Rules(args) => rules::run(args),
+        Command::Tally(args) => tally::run(args),
     };
     outcome.exit_code()
 }

@@ -1,0 +1,310 @@
+//! The `--by` half of a tally: the cross-tabulation with its chi-square test, and the
+//! by-group proportions or means for plots, with their disclosure flags.
+
+use super::build::{code_text, interval_percent, percent, Disclose};
+use super::model::*;
+use super::pass::{Accumulated, ByLevel, Count};
+use super::stats::{self, kish_effective_n, wilson, wilson_count, Z95};
+use crate::codebook::model::{format_number, Variable};
+
+/// The `--by` levels in table order, and for each the index of its accumulated column.
+pub(super) fn by_levels(by: &Variable, met: &[ByLevel]) -> (Vec<Level>, Vec<usize>) {
+    let mut order: Vec<usize> = (0..met.len()).collect();
+    order.sort_by(|&a, &b| match (met[a], met[b]) {
+        (ByLevel::Number(x), ByLevel::Number(y)) => x.total_cmp(&y),
+        _ => a.cmp(&b),
+    });
+    let levels = order
+        .iter()
+        .map(|&i| match met[i] {
+            ByLevel::Category(c) => {
+                let category = &by.categories[c as usize];
+                Level {
+                    code: code_text(&category.code),
+                    label: category.label.clone(),
+                }
+            }
+            ByLevel::Number(x) => Level {
+                code: format_number(x),
+                label: by
+                    .categories
+                    .iter()
+                    .find(|c| c.code.as_number() == Some(x))
+                    .map_or_else(|| format_number(x), |c| c.label.clone()),
+            },
+        })
+        .collect();
+    (levels, order)
+}
+
+fn total(counts: impl Iterator<Item = Count>) -> Count {
+    counts.fold(Count::default(), |mut t, c| {
+        t.n += c.n;
+        t.w += c.w;
+        t.w2 += c.w2;
+        t
+    })
+}
+
+pub(super) fn cross(
+    variable: &Variable,
+    acc: &Accumulated,
+    columns: &[Level],
+    order: &[usize],
+    weighted: bool,
+    disclose: &mut Disclose,
+) -> Crosstab {
+    let amount = |c: &Count| if weighted { c.w } else { c.n as f64 };
+    let categories = variable.categories.len();
+    let row_totals: Vec<Count> = (0..categories)
+        .map(|r| total(order.iter().map(|&c| acc.cross[c][r])))
+        .collect();
+    let column_totals: Vec<Count> = order
+        .iter()
+        .map(|&c| total(acc.cross[c].iter().copied()))
+        .collect();
+    let grand = total(column_totals.iter().copied());
+    let mut make = |c: &Count, row: Option<f64>, column: Option<f64>| {
+        let (small, suppressed) = disclose.flag(c.n);
+        if suppressed {
+            return CrossCell {
+                small,
+                suppressed,
+                ..CrossCell::default()
+            };
+        }
+        CrossCell {
+            count: Some(c.n),
+            weighted_count: weighted.then_some(c.w),
+            row_percent: row,
+            column_percent: column,
+            small,
+            suppressed,
+        }
+    };
+    let cells = (0..categories)
+        .map(|r| {
+            order
+                .iter()
+                .enumerate()
+                .map(|(j, &c)| {
+                    let cell = &acc.cross[c][r];
+                    make(
+                        cell,
+                        percent(amount(cell), amount(&row_totals[r])),
+                        percent(amount(cell), amount(&column_totals[j])),
+                    )
+                })
+                .collect()
+        })
+        .collect();
+    let row_margins = row_totals
+        .iter()
+        .map(|t| {
+            make(
+                t,
+                percent(amount(t), amount(t)),
+                percent(amount(t), amount(&grand)),
+            )
+        })
+        .collect();
+    let column_margins = column_totals
+        .iter()
+        .map(|t| {
+            make(
+                t,
+                percent(amount(t), amount(&grand)),
+                percent(amount(t), amount(t)),
+            )
+        })
+        .collect();
+    Crosstab {
+        rows: variable
+            .categories
+            .iter()
+            .map(|c| Level {
+                code: code_text(&c.code),
+                label: c.label.clone(),
+            })
+            .collect(),
+        columns: columns.to_vec(),
+        cells,
+        row_totals: row_margins,
+        column_totals: column_margins,
+        total: grand.n,
+        weighted_total: weighted.then_some(grand.w),
+        chi_square: None,
+    }
+}
+
+/// Add the chi-square test unless a suppressed cell would make it a way back to the counts.
+pub(super) fn with_test(
+    mut table: Crosstab,
+    acc: &Accumulated,
+    order: &[usize],
+    disclose: &mut Disclose,
+    notes: &mut Vec<String>,
+) -> (Crosstab, bool) {
+    let rows = table.rows.len();
+    let counts: Vec<Vec<u64>> = (0..rows)
+        .map(|r| order.iter().map(|&c| acc.cross[c][r].n).collect())
+        .collect();
+    let Some(test) = stats::chi_square(&counts) else {
+        notes.push("no chi-square test: fewer than two non-empty rows or columns".to_string());
+        return (table, false);
+    };
+    if disclose.suppressed > 0 {
+        notes.push(
+            "the chi-square test is withheld: with the margins it could reveal suppressed cells"
+                .to_string(),
+        );
+        return (table, true);
+    }
+    if test.cochran_warning() {
+        notes.push(format!(
+            "{} of {} cells have an expected count below 5 (or one below 1): the chi-square \
+             approximation is doubtful (Cochran's rule, common practice)",
+            test.expected_below_5, test.cells
+        ));
+    }
+    notes.push("the chi-square test uses the unweighted counts".to_string());
+    table.chi_square = Some(ChiSquare {
+        statistic: test.statistic,
+        df: test.df,
+        p_value: test.p_value,
+        cramers_v: stats::cramers_v(&test),
+        expected_below_5: test.expected_below_5,
+        cells: test.cells,
+        cochran_warning: test.cochran_warning(),
+    });
+    (table, false)
+}
+
+#[allow(clippy::too_many_arguments)]
+pub(super) fn group_proportions(
+    variable: &Variable,
+    event: usize,
+    acc: &Accumulated,
+    levels: &[Level],
+    order: &[usize],
+    weighted: bool,
+    disclose: &mut Disclose,
+) -> ByGroup {
+    let groups = order
+        .iter()
+        .zip(levels)
+        .map(|(&c, level)| {
+            let all = total(acc.cross[c].iter().copied());
+            let hit = acc.cross[c][event];
+            let (small_n, suppressed_n) = disclose.flag(all.n);
+            let (small_e, suppressed_e) = disclose.peek(hit.n);
+            let (small, suppressed) = (small_n || small_e, suppressed_n || suppressed_e);
+            let (estimate, ci) = if weighted {
+                let p = (all.w > 0.0).then(|| hit.w / all.w);
+                let n_eff = kish_effective_n(all.w, all.w2);
+                (p, p.zip(n_eff).and_then(|(p, n)| wilson(p, n, Z95)))
+            } else {
+                (
+                    (all.n > 0).then(|| hit.n as f64 / all.n as f64),
+                    wilson_count(hit.n, all.n),
+                )
+            };
+            let (low, high) = interval_percent(ci);
+            group(
+                level,
+                &all,
+                weighted,
+                estimate.map(|p| 100.0 * p),
+                low,
+                high,
+                small,
+                suppressed,
+            )
+        })
+        .collect();
+    let category = &variable.categories[event];
+    ByGroup {
+        statistic: GroupStatistic::Proportion,
+        event: Some(Level {
+            code: code_text(&category.code),
+            label: category.label.clone(),
+        }),
+        groups,
+    }
+}
+
+pub(super) fn group_means(
+    acc: &Accumulated,
+    levels: &[Level],
+    order: &[usize],
+    weighted: bool,
+    disclose: &mut Disclose,
+) -> ByGroup {
+    let groups = order
+        .iter()
+        .zip(levels)
+        .map(|(&c, level)| {
+            let running = &acc.group_running[c];
+            let count = Count {
+                n: running.count,
+                w: running.sum_w,
+                w2: running.sum_w2,
+            };
+            let (small, suppressed) = disclose.flag(count.n);
+            let ci = running.mean_interval();
+            group(
+                level,
+                &count,
+                weighted,
+                running.mean(),
+                ci.map(|i| i.0),
+                ci.map(|i| i.1),
+                small,
+                suppressed,
+            )
+        })
+        .collect();
+    ByGroup {
+        statistic: GroupStatistic::Mean,
+        event: None,
+        groups,
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn group(
+    level: &Level,
+    count: &Count,
+    weighted: bool,
+    estimate: Option<f64>,
+    ci95_low: Option<f64>,
+    ci95_high: Option<f64>,
+    small: bool,
+    suppressed: bool,
+) -> Group {
+    let mut group = Group {
+        code: level.code.clone(),
+        label: level.label.clone(),
+        n: Some(count.n),
+        weighted_n: weighted.then_some(count.w),
+        effective_n: if weighted {
+            kish_effective_n(count.w, count.w2)
+        } else {
+            None
+        },
+        estimate,
+        ci95_low,
+        ci95_high,
+        small,
+        suppressed,
+    };
+    if suppressed {
+        group.n = None;
+        group.weighted_n = None;
+        group.effective_n = None;
+        group.estimate = None;
+        group.ci95_low = None;
+        group.ci95_high = None;
+    }
+    group
+}

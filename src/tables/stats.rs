@@ -1,0 +1,290 @@
+//! The statistics behind frequency tables and cross-tabulations, each with its source.
+//!
+//! Everything here is a plain function of counts or running sums, so it can be checked
+//! against published worked examples (see `tests/tally_stats.rs`). Distributions come from
+//! `statrs`; nothing here reads data or formats output.
+
+use statrs::distribution::{ChiSquared, ContinuousCDF, StudentsT};
+
+/// The 97.5th percentile of the standard normal distribution: the z of a two-sided 95%
+/// interval (qnorm(0.975) = 1.959963984540054).
+pub const Z95: f64 = 1.959_963_984_540_054;
+
+/// Wilson score interval for a proportion `p` observed on `n` cases.
+///
+/// Wilson (1927) J. Am. Stat. Assoc. 22:209-212; written as in Newcombe (1998) Statistics in
+/// Medicine 17:857-872, method 3:
+/// `L, U = [2np + z^2 -/+ z sqrt(z^2 + 4np(1-p))] / [2(n + z^2)]`.
+///
+/// `n` may be fractional: for weighted data the callers pass the weighted proportion and the
+/// Kish effective sample size ([`kish_effective_n`]), the common practice for an approximate
+/// interval under unequal weights. Returns `None` when `n` is not positive or `p` is outside
+/// [0, 1].
+pub fn wilson(p: f64, n: f64, z: f64) -> Option<(f64, f64)> {
+    if !n.is_finite() || n <= 0.0 || !(0.0..=1.0).contains(&p) {
+        return None;
+    }
+    let z2 = z * z;
+    let centre = 2.0 * n * p + z2;
+    let spread = z * (z2 + 4.0 * n * p * (1.0 - p)).sqrt();
+    let denominator = 2.0 * (n + z2);
+    let low = ((centre - spread) / denominator).max(0.0);
+    let high = ((centre + spread) / denominator).min(1.0);
+    Some((low, high))
+}
+
+/// Wilson 95% interval for `successes` out of `n` cases.
+pub fn wilson_count(successes: u64, n: u64) -> Option<(f64, f64)> {
+    if n == 0 || successes > n {
+        return None;
+    }
+    wilson(successes as f64 / n as f64, n as f64, Z95)
+}
+
+/// Kish's effective sample size for unequal weights: `n_eff = (sum w)^2 / sum w^2`.
+///
+/// Kish (1965) Survey Sampling, section 11.7; Kish (1992) J. Official Statistics 8(2):183-200.
+/// The design effect from weighting alone is `deff = n / n_eff = n sum w^2 / (sum w)^2`.
+pub fn kish_effective_n(sum_w: f64, sum_w2: f64) -> Option<f64> {
+    (sum_w2 > 0.0 && sum_w.is_finite()).then(|| sum_w * sum_w / sum_w2)
+}
+
+/// Kish's design effect from unequal weights, `deff = n sum w^2 / (sum w)^2` (see
+/// [`kish_effective_n`]).
+pub fn kish_design_effect(n: u64, sum_w: f64, sum_w2: f64) -> Option<f64> {
+    kish_effective_n(sum_w, sum_w2).map(|n_eff| n as f64 / n_eff)
+}
+
+/// Pearson's chi-square test of independence on a table of counts.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ChiSquareTest {
+    pub statistic: f64,
+    pub df: u64,
+    pub p_value: f64,
+    /// Cells (of rows and columns with a non-zero total) whose expected count is below 5.
+    pub expected_below_5: u64,
+    /// Cells whose expected count is below 1.
+    pub expected_below_1: u64,
+    /// Cells the test used: rows times columns, after dropping empty rows and columns.
+    pub cells: u64,
+    /// Rows and columns the test used.
+    pub rows: usize,
+    pub columns: usize,
+    /// Total count.
+    pub n: u64,
+}
+
+impl ChiSquareTest {
+    /// Cochran's rule (Cochran 1954, Biometrics 10:417-451), common practice: the chi-square
+    /// approximation is doubtful when more than 20% of expected counts are below 5 or any is
+    /// below 1.
+    pub fn cochran_warning(&self) -> bool {
+        self.expected_below_1 > 0 || self.expected_below_5 * 5 > self.cells
+    }
+}
+
+/// Pearson chi-square test of independence, `X^2 = sum (O - E)^2 / E` with
+/// `E = row total x column total / N` and `df = (r - 1)(c - 1)`; the p-value is the upper tail
+/// of the chi-square distribution. Pearson (1900) Phil. Mag. 50:157-175; as in Agresti (2007)
+/// An Introduction to Categorical Data Analysis, 2nd ed., section 2.4.
+///
+/// Rows and columns whose total is zero carry no information and would give E = 0; they are
+/// left out before the degrees of freedom are counted. Returns `None` when fewer than two rows
+/// or columns remain.
+pub fn chi_square(table: &[Vec<u64>]) -> Option<ChiSquareTest> {
+    let columns = table.first().map_or(0, Vec::len);
+    if table.iter().any(|r| r.len() != columns) {
+        return None;
+    }
+    let row_totals: Vec<u64> = table.iter().map(|r| r.iter().sum()).collect();
+    let column_totals: Vec<u64> = (0..columns)
+        .map(|c| table.iter().map(|r| r[c]).sum())
+        .collect();
+    let rows_used: Vec<usize> = (0..table.len()).filter(|&r| row_totals[r] > 0).collect();
+    let columns_used: Vec<usize> = (0..columns).filter(|&c| column_totals[c] > 0).collect();
+    if rows_used.len() < 2 || columns_used.len() < 2 {
+        return None;
+    }
+    let n: u64 = row_totals.iter().sum();
+    let total = n as f64;
+    let mut statistic = 0.0;
+    let (mut below_5, mut below_1) = (0, 0);
+    for &r in &rows_used {
+        for &c in &columns_used {
+            let expected = row_totals[r] as f64 * column_totals[c] as f64 / total;
+            let diff = table[r][c] as f64 - expected;
+            statistic += diff * diff / expected;
+            below_5 += u64::from(expected < 5.0);
+            below_1 += u64::from(expected < 1.0);
+        }
+    }
+    let df = ((rows_used.len() - 1) * (columns_used.len() - 1)) as u64;
+    Some(ChiSquareTest {
+        statistic,
+        df,
+        p_value: chi_square_upper_tail(statistic, df as f64)?,
+        expected_below_5: below_5,
+        expected_below_1: below_1,
+        cells: (rows_used.len() * columns_used.len()) as u64,
+        rows: rows_used.len(),
+        columns: columns_used.len(),
+        n,
+    })
+}
+
+/// P(X >= x) for X chi-square with `df` degrees of freedom.
+pub fn chi_square_upper_tail(x: f64, df: f64) -> Option<f64> {
+    Some(ChiSquared::new(df).ok()?.sf(x))
+}
+
+/// The chi-square value with upper-tail probability `alpha` (a critical value), as tabled in
+/// the NIST/SEMATECH e-Handbook of Statistical Methods, section 1.3.6.7.4.
+pub fn chi_square_critical(df: f64, alpha: f64) -> Option<f64> {
+    Some(ChiSquared::new(df).ok()?.inverse_cdf(1.0 - alpha))
+}
+
+/// Cramer's V, `sqrt(X^2 / (N (min(r, c) - 1)))`, from a chi-square test's statistic, total
+/// and the rows and columns it used. Cramer (1946) Mathematical Methods of Statistics, p.282.
+pub fn cramers_v(test: &ChiSquareTest) -> Option<f64> {
+    let k = test.rows.min(test.columns);
+    (k > 1 && test.n > 0).then(|| (test.statistic / (test.n as f64 * (k - 1) as f64)).sqrt())
+}
+
+/// Two-sided 95% t interval for a mean: `mean -/+ t(0.975, df) sd / sqrt(n)` with
+/// `df = n - 1` (Student 1908, Biometrika 6:1-25). `n` may be fractional: weighted callers
+/// pass the Kish effective sample size and the weighted sd scaled to it (see
+/// [`WeightedRunning::sd`]), an approximation that is common practice under unequal weights.
+/// Returns `None` when `n <= 1` or `sd` is not finite.
+pub fn t_interval(mean: f64, sd: f64, n: f64) -> Option<(f64, f64)> {
+    if !n.is_finite() || n <= 1.0 || !sd.is_finite() || !mean.is_finite() {
+        return None;
+    }
+    let t = StudentsT::new(0.0, 1.0, n - 1.0).ok()?.inverse_cdf(0.975);
+    let half = t * sd / n.sqrt();
+    Some((mean - half, mean + half))
+}
+
+/// Weighted count, mean and variance of a stream, in one pass: West's (1979) weighted form of
+/// Welford's update (Comm. ACM 22:532-535), accurate where sums of squares lose every digit.
+/// With all weights 1 it is Welford's algorithm exactly.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct WeightedRunning {
+    /// Cases pushed (with any weight, zero included).
+    pub count: u64,
+    pub sum_w: f64,
+    pub sum_w2: f64,
+    mean: f64,
+    /// Sum of w (x - mean)^2.
+    m2: f64,
+    min: Option<f64>,
+    max: Option<f64>,
+}
+
+impl WeightedRunning {
+    #[inline]
+    pub fn push(&mut self, x: f64, w: f64) {
+        self.count += 1;
+        self.min = Some(self.min.map_or(x, |m| m.min(x)));
+        self.max = Some(self.max.map_or(x, |m| m.max(x)));
+        if w <= 0.0 {
+            return;
+        }
+        self.sum_w += w;
+        self.sum_w2 += w * w;
+        let delta = x - self.mean;
+        self.mean += delta * w / self.sum_w;
+        self.m2 += w * delta * (x - self.mean);
+    }
+
+    pub fn mean(&self) -> Option<f64> {
+        (self.sum_w > 0.0).then_some(self.mean)
+    }
+
+    /// Kish effective sample size of the weights pushed; with unit weights, the count.
+    pub fn effective_n(&self) -> Option<f64> {
+        kish_effective_n(self.sum_w, self.sum_w2)
+    }
+
+    /// Standard deviation `sqrt(sum w (x - mean)^2 / sum w x n_eff / (n_eff - 1))`: with unit
+    /// weights this is the sample sd with divisor n - 1; with unequal weights the divisor
+    /// correction uses the effective sample size.
+    pub fn sd(&self) -> Option<f64> {
+        let n_eff = self.effective_n()?;
+        (n_eff > 1.0).then(|| {
+            (self.m2 / self.sum_w * n_eff / (n_eff - 1.0))
+                .max(0.0)
+                .sqrt()
+        })
+    }
+
+    pub fn min(&self) -> Option<f64> {
+        self.min
+    }
+
+    pub fn max(&self) -> Option<f64> {
+        self.max
+    }
+
+    /// The 95% t interval of the mean with the effective sample size ([`t_interval`]).
+    pub fn mean_interval(&self) -> Option<(f64, f64)> {
+        t_interval(self.mean()?, self.sd()?, self.effective_n()?)
+    }
+}
+
+/// Sample quantile of type 7 (linear interpolation between order statistics; the default of
+/// R and numpy), Hyndman & Fan (1996) Am. Stat. 50:361-365: with 0-based `h = (n - 1) p`,
+/// `Q(p) = x[floor h] + (h - floor h)(x[floor h + 1] - x[floor h])`.
+///
+/// `sorted` holds the distinct values in increasing order with their counts, which keeps the
+/// memory of a streaming pass to the number of distinct values.
+pub fn quantile_type7(sorted: &[(f64, u64)], p: f64) -> Option<f64> {
+    let n: u64 = sorted.iter().map(|(_, c)| c).sum();
+    if n == 0 || !(0.0..=1.0).contains(&p) {
+        return None;
+    }
+    let h = (n - 1) as f64 * p;
+    let lower = h.floor() as u64;
+    let below = order_statistic(sorted, lower)?;
+    let above = order_statistic(sorted, (lower + 1).min(n - 1))?;
+    Some(below + (h - h.floor()) * (above - below))
+}
+
+/// The 0-based k-th smallest value of a sorted list of (value, count).
+fn order_statistic(sorted: &[(f64, u64)], k: u64) -> Option<f64> {
+    let mut seen = 0;
+    for &(value, count) in sorted {
+        seen += count;
+        if k < seen {
+            return Some(value);
+        }
+    }
+    None
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn weighted_running_with_unit_weights_is_welford() {
+        let mut r = WeightedRunning::default();
+        for x in [2.0, 4.0, 4.0, 4.0, 5.0, 5.0, 7.0, 9.0] {
+            r.push(x, 1.0);
+        }
+        assert_eq!(r.mean(), Some(5.0));
+        // Sample sd (n - 1) of this textbook set: sqrt(32 / 7).
+        assert!((r.sd().unwrap() - (32.0f64 / 7.0).sqrt()).abs() < 1e-12);
+        assert_eq!((r.min(), r.max()), (Some(2.0), Some(9.0)));
+    }
+
+    #[test]
+    fn degenerate_inputs_give_none() {
+        assert_eq!(wilson_count(0, 0), None);
+        assert_eq!(wilson_count(3, 2), None);
+        assert_eq!(chi_square(&[vec![1, 2]]), None);
+        assert_eq!(chi_square(&[vec![0, 0], vec![0, 0]]), None);
+        assert_eq!(t_interval(1.0, 1.0, 1.0), None);
+        assert_eq!(kish_effective_n(0.0, 0.0), None);
+        assert_eq!(quantile_type7(&[], 0.5), None);
+    }
+}
