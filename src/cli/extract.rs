@@ -13,8 +13,11 @@ use crate::report;
 
 #[derive(clap::Args)]
 pub struct Args {
-    /// The codebook file (native TOML).
+    /// The codebook file: native TOML or DDI Codebook XML.
     codebook: PathBuf,
+    /// The DDI fileDscr to describe, when a DDI codebook has several.
+    #[arg(long, value_name = "ID")]
+    file_id: Option<String>,
     /// The data file; `-` reads standard input.
     data: PathBuf,
     /// The extract to write (CSV).
@@ -59,7 +62,12 @@ fn sidecar_path(out: &Path) -> PathBuf {
 }
 
 pub fn run(args: Args) -> Outcome {
-    let loaded = match codebook::load(&args.codebook) {
+    let loaded = match codebook::load_with(
+        &args.codebook,
+        &codebook::Options {
+            file_id: args.file_id.clone(),
+        },
+    ) {
         Ok(l) => l,
         Err(e) => return could_not_run(e),
     };

@@ -11,8 +11,11 @@ use crate::tables::{self, render, Request, TallyError, WeightChoice};
 
 #[derive(clap::Args)]
 pub struct Args {
-    /// The codebook file (native TOML).
+    /// The codebook file: native TOML or DDI Codebook XML.
     codebook: PathBuf,
+    /// The DDI fileDscr to describe, when a DDI codebook has several.
+    #[arg(long, value_name = "ID")]
+    file_id: Option<String>,
     /// The data file (CSV, TSV, fixed-width; gzip is detected); `-` reads standard input.
     data: PathBuf,
     /// The variable to tabulate: categories and missing kinds, or a summary when numeric.
@@ -62,7 +65,12 @@ pub fn run(args: Args) -> Outcome {
             return could_not_run(e);
         }
     }
-    let loaded = match codebook::load(&args.codebook) {
+    let loaded = match codebook::load_with(
+        &args.codebook,
+        &codebook::Options {
+            file_id: args.file_id.clone(),
+        },
+    ) {
         Ok(l) => l,
         Err(e) => return could_not_run(e),
     };
