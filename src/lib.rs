@@ -15,5 +15,6 @@ pub mod condition;
 pub mod data;
 pub mod diagnostic;
 pub mod output;
+pub mod recode;
 pub mod report;
 pub mod rules;

@@ -53,7 +53,7 @@ pub fn parse(path: &Path, text: String) -> Result<Loaded, LoadError> {
     })
 }
 
-fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
+pub(crate) fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
     let message = e.message().trim().to_string();
     let range = e.span().unwrap_or(0..0);
     let mut help = None;
