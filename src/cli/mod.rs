@@ -6,6 +6,7 @@
 mod check;
 mod common;
 mod lint;
+mod recode;
 mod rules;
 
 use std::process::ExitCode;
@@ -28,6 +29,8 @@ enum Command {
     Check(check::Args),
     /// Check a codebook's own consistency before any data is read.
     Lint(lint::Args),
+    /// Validate a recode file against the codebook, or apply it to a data file.
+    Recode(recode::Args),
     /// List every rule concord reports, or explain one.
     Rules(rules::Args),
 }
@@ -44,6 +47,7 @@ pub fn main() -> ExitCode {
     let outcome = match cli.command {
         Command::Check(args) => check::run(args),
         Command::Lint(args) => lint::run(args),
+        Command::Recode(args) => recode::run(args),
         Command::Rules(args) => rules::run(args),
     };
     outcome.exit_code()

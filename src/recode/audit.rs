@@ -162,6 +162,15 @@ impl Counter {
         }
     }
 
+    /// Cases whose source cell had a value finding.
+    pub fn invalid(&self) -> u64 {
+        self.entries
+            .iter()
+            .filter(|e| e.source == Source::Invalid)
+            .map(|e| e.count)
+            .sum()
+    }
+
     /// Cases that reached each output category, in the output's category order.
     pub fn category_counts(&self, output: &Variable) -> Vec<u64> {
         output

@@ -9,7 +9,9 @@
 //! cross-tabulation of every source value by its derived value. [`codebook_toml`] writes the
 //! extended codebook. Nothing here prints.
 
+pub mod apply;
 pub mod audit;
+pub mod codebook_toml;
 pub mod intervals;
 pub mod outputs;
 pub mod plan;

@@ -301,7 +301,11 @@ fn categories(
                 "recode.unlabelled-output",
                 format!(
                     "the output {} {} of `{}` {} no label",
-                    if unlabelled.len() == 1 { "code" } else { "codes" },
+                    if unlabelled.len() == 1 {
+                        "code"
+                    } else {
+                        "codes"
+                    },
                     unlabelled.join(", "),
                     d.name,
                     if unlabelled.len() == 1 { "has" } else { "have" }

@@ -145,14 +145,21 @@ impl DerivePlan {
                 .iter()
                 .position(|(from, _)| from.matches(text, number))
                 .map(|i| (i, entries[i].1.clone())),
-            Rule::Expr(_) => return (Source::Computed(f64::NAN), self.produced(MissingKind::Other)),
+            Rule::Expr(_) => {
+                return (
+                    Source::Computed(f64::NAN),
+                    self.produced(MissingKind::Other),
+                )
+            }
         };
         let banded = matches!(self.rule, Rule::Bands(_)) && !self.coded_source;
         let value = number.unwrap_or(f64::NAN);
         match found {
             Some((i, code)) if banded => (Source::Band(i as u32, value), Derived::Code(code)),
             Some((_, code)) => (Source::Code(as_code()), Derived::Code(code)),
-            None if self.coded_source => (Source::Code(as_code()), self.produced(MissingKind::Other)),
+            None if self.coded_source => {
+                (Source::Code(as_code()), self.produced(MissingKind::Other))
+            }
             None => (Source::NoBand(value), self.produced(MissingKind::Other)),
         }
     }

@@ -233,10 +233,12 @@ pub fn parse(path: &Path, text: String, file: usize) -> Result<RecodeFile, LoadE
         text,
     });
     if raw.derive.is_empty() {
-        return Err(
-            LoadError::file("recode.empty", path, "the recode file has no [[derive]] entries")
-                .with_help("add `[[derive]]` tables with `name`, `from` and a method such as `cuts`"),
-        );
+        return Err(LoadError::file(
+            "recode.empty",
+            path,
+            "the recode file has no [[derive]] entries",
+        )
+        .with_help("add `[[derive]]` tables with `name`, `from` and a method such as `cuts`"));
     }
     let reader = Reader {
         source: &source,
@@ -325,7 +327,10 @@ impl Reader<'_> {
         match given.len() {
             0 => {
                 return Err(self
-                    .error_at(name_span, format!("`{name}` says neither how nor what to derive"))
+                    .error_at(
+                        name_span,
+                        format!("`{name}` says neither how nor what to derive"),
+                    )
                     .with_help("give one of `cuts`, `intervals`, `map`, `quantiles` or `expr`"))
             }
             1 => {}
@@ -355,7 +360,10 @@ impl Reader<'_> {
             None => Closed::Right,
         };
         for (key, present) in [
-            ("quantile_type", raw.quantile_type.as_ref().map(Spanned::span)),
+            (
+                "quantile_type",
+                raw.quantile_type.as_ref().map(Spanned::span),
+            ),
             ("weight", raw.weight.as_ref().map(Spanned::span)),
             ("weighted", raw.weighted.as_ref().map(Spanned::span)),
         ] {
@@ -373,7 +381,10 @@ impl Reader<'_> {
             (Method::Expr(_), None) => {}
             (m, None) => {
                 return Err(self
-                    .error_at(span.start..span.start, format!("`{name}` has `{}` but no `from`", m.name()))
+                    .error_at(
+                        span.start..span.start,
+                        format!("`{name}` has `{}` but no `from`", m.name()),
+                    )
                     .with_help("name the source variable: `from = \"age\"`"))
             }
             _ => {}
@@ -470,7 +481,11 @@ impl Reader<'_> {
                 return Err(self
                     .error_at(
                         cuts.get_ref()[i + 1].span(),
-                        format!("cut points must increase: {} comes after {}", values[i + 1], values[i]),
+                        format!(
+                            "cut points must increase: {} comes after {}",
+                            values[i + 1],
+                            values[i]
+                        ),
                     )
                     .with_help("list cut points from the smallest to the largest, each once"));
             }
@@ -521,7 +536,10 @@ impl Reader<'_> {
                 Ok(n) if (2..=100).contains(&n) => n,
                 _ => {
                     return Err(self
-                        .error_at(q.span(), "`quantiles` must be a number of bands from 2 to 100")
+                        .error_at(
+                            q.span(),
+                            "`quantiles` must be a number of bands from 2 to 100",
+                        )
                         .with_help("`quantiles = 4` makes quartile bands"))
                 }
             };
@@ -538,7 +556,10 @@ impl Reader<'_> {
             if let (QuantileType::Six, Some(w)) = (kind, &raw.weight) {
                 if weighted != Some(false) {
                     return Err(self
-                        .error_at(w.span(), "type-6 quantiles have no weighted form in concord")
+                        .error_at(
+                            w.span(),
+                            "type-6 quantiles have no weighted form in concord",
+                        )
                         .with_help("drop `quantile_type = 6` or set `weighted = false`"));
                 }
             }
@@ -570,7 +591,10 @@ impl Reader<'_> {
          -> Result<End, LoadError> {
             match (inclusive, exclusive) {
                 (Some(a), Some(_)) => Err(self
-                    .error_at(a.span(), format!("give `{}` or `{}`, not both", names.0, names.1))
+                    .error_at(
+                        a.span(),
+                        format!("give `{}` or `{}`, not both", names.0, names.1),
+                    )
                     .with_help(format!(
                         "`{}` is an inclusive bound, `{}` an exclusive one",
                         names.0, names.1
@@ -590,7 +614,10 @@ impl Reader<'_> {
         }
         if interval.is_empty() {
             return Err(self
-                .error_at(raw.span(), format!("the interval {interval} holds no value"))
+                .error_at(
+                    raw.span(),
+                    format!("the interval {interval} holds no value"),
+                )
                 .with_help("the lower bound must lie below the upper bound"));
         }
         Ok(IntervalRule {

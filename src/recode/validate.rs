@@ -157,10 +157,7 @@ impl Validator<'_> {
             return Resolved::Blocked;
         };
         if let Some(k) = self.codebook.variable_index(&from.name) {
-            return Resolved::Found(
-                SourceRef::Codebook(k),
-                &self.codebook.variables[k],
-            );
+            return Resolved::Found(SourceRef::Codebook(k), &self.codebook.variables[k]);
         }
         match self.names.derived.iter().position(|(n, _)| *n == from.name) {
             Some(j) if j < i => match self.built[j].as_ref() {
@@ -168,7 +165,11 @@ impl Validator<'_> {
                 None => Resolved::Blocked,
             },
             Some(j) => {
-                let what = if j == i { "itself" } else { "a variable derived further down" };
+                let what = if j == i {
+                    "itself"
+                } else {
+                    "a variable derived further down"
+                };
                 self.push(
                     Diagnostic::new(
                         "recode.order",
@@ -196,7 +197,13 @@ impl Validator<'_> {
     }
 
     /// Compile an `expr` (`condition` false) or `when` (`condition` true).
-    fn compile(&mut self, i: usize, text: &ConditionText, what: &str, condition: bool) -> Option<Compiled> {
+    fn compile(
+        &mut self,
+        i: usize,
+        text: &ConditionText,
+        what: &str,
+        condition: bool,
+    ) -> Option<Compiled> {
         let expr = match condition::parse(&text.text) {
             Ok(e) => e,
             Err(e) => {
@@ -234,9 +241,12 @@ impl Validator<'_> {
         };
         if !condition && compiled.is_condition() {
             self.push(
-                Diagnostic::new("recode.expression", format!("the {what} is a condition, not a number"))
-                    .at(text.place, "yields true or false")
-                    .help("an `expr` computes a number, such as `bike_km / bike_days`"),
+                Diagnostic::new(
+                    "recode.expression",
+                    format!("the {what} is a condition, not a number"),
+                )
+                .at(text.place, "yields true or false")
+                .help("an `expr` computes a number, such as `bike_km / bike_days`"),
             );
             return None;
         }
@@ -273,9 +283,12 @@ impl Validator<'_> {
             None => None,
         };
         let reads_quantiles = |v: &Self, vars: &[usize]| {
-            vars.iter().any(|&x| x >= n && v.on_quantiles.get(x - n).copied().unwrap_or(false))
+            vars.iter()
+                .any(|&x| x >= n && v.on_quantiles.get(x - n).copied().unwrap_or(false))
         };
-        let mut on_quantiles = when.as_ref().is_some_and(|w| reads_quantiles(self, w.variables()));
+        let mut on_quantiles = when
+            .as_ref()
+            .is_some_and(|w| reads_quantiles(self, w.variables()));
         let result = if let Method::Expr(text) = &d.method {
             if d.kind != Kind::Numeric {
                 self.push(
@@ -291,13 +304,31 @@ impl Validator<'_> {
                     let inputs: Vec<SourceRef> = c
                         .variables()
                         .iter()
-                        .map(|&x| if x < n { SourceRef::Codebook(x) } else { SourceRef::Derived(x - n) })
+                        .map(|&x| {
+                            if x < n {
+                                SourceRef::Codebook(x)
+                            } else {
+                                SourceRef::Derived(x - n)
+                            }
+                        })
                         .collect();
-                    let owned: Vec<Variable> = inputs.iter().filter_map(|r| self.source_variable(*r)).cloned().collect();
+                    let owned: Vec<Variable> = inputs
+                        .iter()
+                        .filter_map(|r| self.source_variable(*r))
+                        .cloned()
+                        .collect();
                     let vars: Vec<&Variable> = owned.iter().collect();
                     let divides = text.text.contains('/');
-                    outputs::build(self.codebook, d, &vars, None, when.is_some(), divides, &mut self.out)
-                        .map(|b| (b, Rule::Expr(c), None, None))
+                    outputs::build(
+                        self.codebook,
+                        d,
+                        &vars,
+                        None,
+                        when.is_some(),
+                        divides,
+                        &mut self.out,
+                    )
+                    .map(|b| (b, Rule::Expr(c), None, None))
                 }
                 None => None,
             }
@@ -312,20 +343,33 @@ impl Validator<'_> {
             if let SourceRef::Derived(j) = source {
                 on_quantiles |= self.on_quantiles[j];
             }
-            self.from_rule(d, source, &var, when.is_some())
+            self.source_rule(d, source, &var, when.is_some())
                 .map(|(b, rule, q)| (b, rule, q, Some(source)))
         };
         let quantile_entry = matches!(d.method, Method::Quantiles { .. });
         if quantile_entry && on_quantiles {
             self.push(
-                Diagnostic::new("recode.quantile-source", format!("the quantile bands of `{}` would read quantile bands derived above", d.name))
-                    .at(d.method_place, "cut points come from a first pass over codebook variables")
-                    .help("base `from`, `weight` and `when` on codebook variables"),
+                Diagnostic::new(
+                    "recode.quantile-source",
+                    format!(
+                        "the quantile bands of `{}` would read quantile bands derived above",
+                        d.name
+                    ),
+                )
+                .at(
+                    d.method_place,
+                    "cut points come from a first pass over codebook variables",
+                )
+                .help("base `from`, `weight` and `when` on codebook variables"),
             );
         }
         self.on_quantiles.push(on_quantiles || quantile_entry);
         let (built, rule, quantiles, source) = result?;
-        let Built { output, missing_from, kind_codes } = built;
+        let Built {
+            output,
+            missing_from,
+            kind_codes,
+        } = built;
         let coded_source = source
             .and_then(|s| self.source_variable(s))
             .is_some_and(|v| v.kind.is_coded());
@@ -353,16 +397,21 @@ impl Validator<'_> {
         };
         if let Some(what) = clash {
             self.push(
-                Diagnostic::new("recode.duplicate-name", format!("`{}` is already the name of {what}", d.name))
-                    .at(d.place, "name taken")
-                    .help("give the derived variable its own name, e.g. with a `_band` or `_grp` suffix"),
+                Diagnostic::new(
+                    "recode.duplicate-name",
+                    format!("`{}` is already the name of {what}", d.name),
+                )
+                .at(d.place, "name taken")
+                .help(
+                    "give the derived variable its own name, e.g. with a `_band` or `_grp` suffix",
+                ),
             );
         }
     }
 
     /// Bands and maps: check against the source and build the rule.
     #[allow(clippy::type_complexity)]
-    fn from_rule(
+    fn source_rule(
         &mut self,
         d: &Derive,
         source: SourceRef,
@@ -375,8 +424,17 @@ impl Validator<'_> {
             self.push(
                 Diagnostic::new(
                     "recode.not-numeric",
-                    format!("`{}` bands `{}`, a {} variable{}", d.name, var.name, var.kind,
-                        if var.kind.is_coded() { " with text codes" } else { "" }),
+                    format!(
+                        "`{}` bands `{}`, a {} variable{}",
+                        d.name,
+                        var.name,
+                        var.kind,
+                        if var.kind.is_coded() {
+                            " with text codes"
+                        } else {
+                            ""
+                        }
+                    ),
                 )
                 .at(d.method_place, "bands need numbers")
                 .help("band a numeric variable, or collapse codes with `map`"),
@@ -393,23 +451,52 @@ impl Validator<'_> {
                     .enumerate()
                     .map(|(k, b)| (b, Code::Number((k + 1) as f64)))
                     .collect();
-                let codes = coded.iter().map(|(b, c)| (c.clone(), b.to_string())).collect();
+                let codes = coded
+                    .iter()
+                    .map(|(b, c)| (c.clone(), b.to_string()))
+                    .collect();
                 (Rule::Bands(coded), codes, None)
             }
-            Method::Quantiles { bands, kind, weight, weighted, closed } => {
+            Method::Quantiles {
+                bands,
+                kind,
+                weight,
+                weighted,
+                closed,
+            } => {
                 if let SourceRef::Derived(_) = source {
                     self.push(
-                        Diagnostic::new("recode.quantile-source", format!("the quantile bands of `{}` are cut from `{}`, a derived variable", d.name, var.name))
-                            .at(d.from.as_ref().and_then(|f| f.place), "derived, not in the codebook")
-                            .help("cut quantiles from a codebook variable"),
+                        Diagnostic::new(
+                            "recode.quantile-source",
+                            format!(
+                                "the quantile bands of `{}` are cut from `{}`, a derived variable",
+                                d.name, var.name
+                            ),
+                        )
+                        .at(
+                            d.from.as_ref().and_then(|f| f.place),
+                            "derived, not in the codebook",
+                        )
+                        .help("cut quantiles from a codebook variable"),
                     );
                     return None;
                 }
                 let weight = self.quantile_weight(d, weight.as_ref(), *weighted)?;
                 let codes = (1..=*bands)
-                    .map(|k| (Code::Number(k as f64), format!("quantile band {k} of {bands}")))
+                    .map(|k| {
+                        (
+                            Code::Number(k as f64),
+                            format!("quantile band {k} of {bands}"),
+                        )
+                    })
                     .collect();
-                let plan = QuantilePlan { bands: *bands, kind: *kind, weight, closed: *closed, cuts: Vec::new() };
+                let plan = QuantilePlan {
+                    bands: *bands,
+                    kind: *kind,
+                    weight,
+                    closed: *closed,
+                    cuts: Vec::new(),
+                };
                 (Rule::Bands(Vec::new()), codes, Some(plan))
             }
             Method::Intervals(rules) => {
@@ -425,9 +512,18 @@ impl Validator<'_> {
                     for rb in &rules[a + 1..] {
                         for shared in domain.shared(&ra.interval, &rb.interval) {
                             self.push(
-                                Diagnostic::new("recode.overlap", format!("the bands {} and {} of `{}` share {}", ra.interval, rb.interval, d.name, describe(&shared, var)))
-                                    .at(rb.place, format!("overlaps {}", ra.interval))
-                                    .help("make one of the bounds exclusive with `above` or `below`"),
+                                Diagnostic::new(
+                                    "recode.overlap",
+                                    format!(
+                                        "the bands {} and {} of `{}` share {}",
+                                        ra.interval,
+                                        rb.interval,
+                                        d.name,
+                                        describe(&shared, var)
+                                    ),
+                                )
+                                .at(rb.place, format!("overlaps {}", ra.interval))
+                                .help("make one of the bounds exclusive with `above` or `below`"),
                             );
                         }
                     }
@@ -439,7 +535,11 @@ impl Validator<'_> {
                         codes.push((r.code.clone(), r.interval.to_string()));
                     }
                 }
-                (Rule::Bands(rules.iter().map(|r| (r.interval, r.code.clone())).collect()), codes, None)
+                (
+                    Rule::Bands(rules.iter().map(|r| (r.interval, r.code.clone())).collect()),
+                    codes,
+                    None,
+                )
             }
             Method::Map(entries) => {
                 let pairs = self.map_entries(d, var, &domain, entries);
@@ -453,11 +553,24 @@ impl Validator<'_> {
             }
             Method::Expr(_) => unreachable!("handled by the caller"),
         };
-        let built = outputs::build(self.codebook, d, &[var], Some(&codes), has_when, false, &mut self.out)?;
+        let built = outputs::build(
+            self.codebook,
+            d,
+            &[var],
+            Some(&codes),
+            has_when,
+            false,
+            &mut self.out,
+        )?;
         Some((built, rule, quantiles))
     }
 
-    fn quantile_weight(&mut self, d: &Derive, weight: Option<&crate::codebook::model::Named>, weighted: Option<bool>) -> Option<Option<usize>> {
+    fn quantile_weight(
+        &mut self,
+        d: &Derive,
+        weight: Option<&crate::codebook::model::Named>,
+        weighted: Option<bool>,
+    ) -> Option<Option<usize>> {
         if weighted == Some(false) {
             return Some(None);
         }
@@ -477,8 +590,17 @@ impl Validator<'_> {
             Some(k) if self.codebook.variables[k].kind == Kind::Numeric => Some(Some(k)),
             Some(_) => {
                 self.push(
-                    Diagnostic::new("recode.not-numeric", format!("the weight `{}` of `{}` is not a numeric variable", named.name, d.name))
-                        .at(weight.and_then(|w| w.place).or(d.method_place), "not numeric"),
+                    Diagnostic::new(
+                        "recode.not-numeric",
+                        format!(
+                            "the weight `{}` of `{}` is not a numeric variable",
+                            named.name, d.name
+                        ),
+                    )
+                    .at(
+                        weight.and_then(|w| w.place).or(d.method_place),
+                        "not numeric",
+                    ),
                 );
                 None
             }
@@ -486,8 +608,14 @@ impl Validator<'_> {
             None if weight.is_none() => Some(None),
             None => {
                 self.push(
-                    Diagnostic::new("recode.unknown-source", format!("the weight `{}` of `{}` is not a codebook variable", named.name, d.name))
-                        .at(named.place, "unknown variable"),
+                    Diagnostic::new(
+                        "recode.unknown-source",
+                        format!(
+                            "the weight `{}` of `{}` is not a codebook variable",
+                            named.name, d.name
+                        ),
+                    )
+                    .at(named.place, "unknown variable"),
                 );
                 None
             }
@@ -496,9 +624,18 @@ impl Validator<'_> {
 
     /// Missing codes that a band would take. For `cuts`, whose outer bands are open by
     /// construction, only codes inside the source's declared range count.
-    fn missing_in_bands(&mut self, d: &Derive, var: &Variable, domain: &Domain, bands: &[Interval], cuts: bool) {
+    fn missing_in_bands(
+        &mut self,
+        d: &Derive,
+        var: &Variable,
+        domain: &Domain,
+        bands: &[Interval],
+        cuts: bool,
+    ) {
         for m in &var.missing {
-            let Some(x) = m.code.as_number() else { continue };
+            let Some(x) = m.code.as_number() else {
+                continue;
+            };
             if cuts && !var.range.is_some_and(|r| r.contains(x)) {
                 continue;
             }
@@ -513,7 +650,13 @@ impl Validator<'_> {
         }
     }
 
-    fn map_entries(&mut self, d: &Derive, var: &Variable, domain: &Domain, entries: &[super::spec::MapEntry]) -> Vec<(Code, Code)> {
+    fn map_entries(
+        &mut self,
+        d: &Derive,
+        var: &Variable,
+        domain: &Domain,
+        entries: &[super::spec::MapEntry],
+    ) -> Vec<(Code, Code)> {
         let mut pairs = Vec::new();
         for e in entries {
             match source_code(var, &e.key) {
@@ -543,18 +686,45 @@ impl Validator<'_> {
                 .collect();
             if !unmapped.is_empty() {
                 self.push(
-                    Diagnostic::new("recode.unmapped-code", format!("`map` of `{}` has no entry for {} of `{}`: {}", d.name, if unmapped.len() == 1 { "the code" } else { "the codes" }, var.name, unmapped.join(", ")))
-                        .at(d.method_place, "incomplete")
-                        .help("map every category of the source, if need be to a catch-all output code"),
+                    Diagnostic::new(
+                        "recode.unmapped-code",
+                        format!(
+                            "`map` of `{}` has no entry for {} of `{}`: {}",
+                            d.name,
+                            if unmapped.len() == 1 {
+                                "the code"
+                            } else {
+                                "the codes"
+                            },
+                            var.name,
+                            unmapped.join(", ")
+                        ),
+                    )
+                    .at(d.method_place, "incomplete")
+                    .help(
+                        "map every category of the source, if need be to a catch-all output code",
+                    ),
                 );
             }
         } else {
-            let keys: Vec<Interval> = pairs.iter().filter_map(|(k, _)| k.as_number()).map(Interval::point).collect();
+            let keys: Vec<Interval> = pairs
+                .iter()
+                .filter_map(|(k, _)| k.as_number())
+                .map(Interval::point)
+                .collect();
             for gap in domain.uncovered(&keys) {
                 self.push(
-                    Diagnostic::new("recode.unmapped-code", format!("`map` of `{}` has no entry for {} of `{}`", d.name, describe(&gap, var), var.name))
-                        .at(d.method_place, "incomplete")
-                        .help("map every valid value of the source, or band it with `intervals`"),
+                    Diagnostic::new(
+                        "recode.unmapped-code",
+                        format!(
+                            "`map` of `{}` has no entry for {} of `{}`",
+                            d.name,
+                            describe(&gap, var),
+                            var.name
+                        ),
+                    )
+                    .at(d.method_place, "incomplete")
+                    .help("map every valid value of the source, or band it with `intervals`"),
                 );
             }
         }
@@ -573,7 +743,11 @@ fn single(s: &Stretch) -> bool {
 /// A stretch of values in words, with the category label of a single code.
 fn describe(s: &Stretch, var: &Variable) -> String {
     if let Stretch::Point(x) = s {
-        if let Some(c) = var.categories.iter().find(|c| c.code.as_number() == Some(*x)) {
+        if let Some(c) = var
+            .categories
+            .iter()
+            .find(|c| c.code.as_number() == Some(*x))
+        {
             return format!("the code {} ({})", c.code, c.label);
         }
     }
@@ -582,7 +756,9 @@ fn describe(s: &Stretch, var: &Variable) -> String {
 
 /// The valid values of a source, for band arithmetic.
 pub fn domain_of(var: &Variable) -> Domain {
-    let numbers = |codes: &mut dyn Iterator<Item = &Code>| codes.filter_map(Code::as_number).collect::<Vec<f64>>();
+    let numbers = |codes: &mut dyn Iterator<Item = &Code>| {
+        codes.filter_map(Code::as_number).collect::<Vec<f64>>()
+    };
     if var.kind.is_coded() {
         return Domain {
             range: None,
@@ -593,8 +769,10 @@ pub fn domain_of(var: &Variable) -> Domain {
     }
     let range = match var.range {
         Some(r) => Interval::new(
-            r.min.map_or(End::open(f64::NEG_INFINITY), |b| End::closed(b.value())),
-            r.max.map_or(End::open(f64::INFINITY), |b| End::closed(b.value())),
+            r.min
+                .map_or(End::open(f64::NEG_INFINITY), |b| End::closed(b.value())),
+            r.max
+                .map_or(End::open(f64::INFINITY), |b| End::closed(b.value())),
         ),
         None => Interval::ALL,
     };

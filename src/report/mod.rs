@@ -5,6 +5,7 @@
 
 pub mod check;
 pub mod lint;
+pub mod recode;
 
 use miette::{GraphicalReportHandler, GraphicalTheme};
 
