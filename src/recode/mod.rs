@@ -16,6 +16,7 @@ pub mod intervals;
 pub mod outputs;
 pub mod plan;
 pub mod quantile;
+pub mod sources;
 pub mod spec;
 pub mod validate;
 
