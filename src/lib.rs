@@ -16,6 +16,7 @@ pub mod data;
 pub mod diagnostic;
 pub mod extract;
 pub mod output;
+pub mod recode;
 pub mod report;
 pub mod rules;
 pub mod tables;

@@ -190,9 +190,70 @@ pub const CHECK_RULES: &[Rule] = &[
          (half a unit of its last written decimal). The standard deviation uses n - 1."),
 ];
 
-/// Every rule, lint and check.
+/// Rules about a recode file, reported by `concord recode` (statically, and with data).
+pub const RECODE_RULES: &[Rule] = &[
+    rule("recode.gap", Error, "a valid source value no band takes",
+        "Some value the source's codebook allows (inside its range, on its grid of `decimals` \
+         places, or a labelled special value) falls in no band. The gap is computed exactly, by \
+         interval arithmetic, and named: e.g. bands 16-29 and 30-64 leave 29.1 to 29.9 uncovered \
+         when the source has one decimal. Close the gap (`above = 29` instead of `min = 30`) or \
+         narrow the source's range."),
+    rule("recode.overlap", Error, "two bands share values",
+        "Two intervals of one recode both take some valid values, so the recode depends on which \
+         is tried first. concord names the shared values; make one bound exclusive (`above`/`below`)."),
+    rule("recode.unmapped-code", Error, "a source category is not in `map`",
+        "A category of the source variable has no entry in the recode's `map`: cases with that code \
+         would get no derived value. Map it, even if to a catch-all category."),
+    rule("recode.missing-into-valid", Error, "a source missing code lands in a substantive band or code",
+        "A missing-value code of the source (say 99 = refused) lies inside a band, or is a key of \
+         `map` with a valid output code. Tools that do not read the codebook would turn it into a \
+         real value. concord never bands or maps missing codes (they carry over to the same missing \
+         kind, or as `missing = [{ from = 99, code = ... }]` says), but the recode should say what \
+         it means: bound the band by the valid range, or remove the key."),
+    rule("recode.unlabelled-output", Error, "an output code has no label in `categories`",
+        "Every code a derived variable can take needs a label, or labelled extracts and tables show \
+         bare numbers. Add `{ code = N, label = \"...\" }` to the recode's `categories`."),
+    rule("recode.empty-output", Warning, "a derived category no case reached (data only)",
+        "With data, a category of a derived variable received no case. Often harmless, but also the \
+         sign of a band placed outside the data (a unit mistake) or of quantile cut points that tie."),
+    rule("recode.unknown-source", Error, "`from`, an expression or a weight names an unknown variable",
+        "A recode reads a variable that is neither in the codebook nor derived earlier in the recode \
+         file. With data the recode cannot run (exit 2)."),
+    rule("recode.unknown-code", Error, "a `map` key, missing mapping or category is not a code it could be",
+        "A `map` key or a `missing` entry's `from` is not a code of the source variable, or a \
+         `categories` entry labels a code the recode never produces. Usually a typo or a recode \
+         written for another wave."),
+    rule("recode.not-numeric", Error, "bands or quantiles on a variable without numeric values",
+        "`cuts`, `intervals` and `quantiles` compare numbers; they need a numeric source, or a \
+         categorical/ordinal one whose codes are all numbers. Use `map` for text codes."),
+    rule("recode.expression", Error, "an `expr` or `when` does not parse or has a type error",
+        "Recode expressions use the condition language: `expr` must yield a number, `when` a truth \
+         value; names resolve to codebook variables and to variables derived earlier in the file."),
+    rule("recode.order", Error, "a derived variable is used before it is derived, or in a cycle",
+        "A derived variable may read only codebook variables and variables derived above it in the \
+         recode file. Move the entry it depends on up."),
+    rule("recode.duplicate-name", Error, "a derived variable's name is already taken",
+        "The name of a derived variable must differ from every codebook variable and every other \
+         derived variable, or the output file would have two columns of one name."),
+    rule("recode.missing-code", Error, "derived missing values have no unambiguous code",
+        "Each missing kind a derived variable can produce needs an output code (or the empty cell, \
+         for one kind only), and an output missing code may not equal a valid output code or mean \
+         two kinds. Declare `missing = [{ kind = \"other\", code = -9 }]` (or `from = ...`)."),
+    rule("recode.quantile-source", Error, "quantiles from a variable derived in the same file",
+        "Quantile cut points are computed in a first pass over the data, before any derived value \
+         exists. Their `from`, `weight` and `when` must read codebook variables, or variables \
+         derived without quantiles."),
+    rule("recode.invalid-source", Warning, "source cells with value findings (data only)",
+        "Some source cells break their codebook (a value finding of `concord check`); their derived \
+         value is missing of kind `other`. Run `concord check` on the data and fix it first."),
+];
+
+/// Every rule: lint, check and recode.
 pub fn all() -> impl Iterator<Item = &'static Rule> {
-    LINT_RULES.iter().chain(CHECK_RULES.iter())
+    LINT_RULES
+        .iter()
+        .chain(CHECK_RULES.iter())
+        .chain(RECODE_RULES.iter())
 }
 
 /// Look a rule up by id.

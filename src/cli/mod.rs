@@ -8,6 +8,7 @@ mod common;
 mod convert;
 mod extract;
 mod lint;
+mod recode;
 mod rules;
 mod tally;
 
@@ -35,6 +36,8 @@ enum Command {
     Lint(lint::Args),
     /// Convert a codebook between DDI Codebook XML and native TOML.
     Convert(convert::Args),
+    /// Validate a recode file against the codebook, or apply it to a data file.
+    Recode(recode::Args),
     /// List every rule concord reports, or explain one.
     Rules(rules::Args),
     /// Frequency tables, cross-tabulations and by-group summaries with labels.
@@ -55,6 +58,7 @@ pub fn main() -> ExitCode {
         Command::Extract(args) => extract::run(args),
         Command::Lint(args) => lint::run(args),
         Command::Convert(args) => convert::run(args),
+        Command::Recode(args) => recode::run(args),
         Command::Rules(args) => rules::run(args),
         Command::Tally(args) => tally::run(args),
     };

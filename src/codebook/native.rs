@@ -107,7 +107,7 @@ fn read_base(
     super::ddi::parse(&base_path, text, options, 1)
 }
 
-fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
+pub(crate) fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
     // serde names Rust types ("expected i64"); say what a codebook author writes.
     let message = e
         .message()

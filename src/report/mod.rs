@@ -6,6 +6,7 @@
 pub mod check;
 pub mod junit;
 pub mod lint;
+pub mod recode;
 pub mod sarif;
 
 use miette::{GraphicalReportHandler, GraphicalTheme};

@@ -1,0 +1,625 @@
+//! Static validation: prove a recode file right against the codebook alone, and compile it.
+//!
+//! Each derived variable is checked in file order, so it may read codebook variables and the
+//! variables derived above it. Findings are [`Diagnostic`]s under the `recode.*` rules of
+//! [`crate::rules::RECODE_RULES`], pointing into the recode file. Some findings leave a
+//! derived variable impossible to compute (an unknown source, a type error, ambiguous
+//! missing codes); they are *blocking*, and a blocked recode file cannot be applied. The
+//! others (gaps, overlaps, unmapped codes) describe a recode that would run but be wrong.
+//! Band arithmetic lives in [`super::intervals`] and [`super::sources`]; the output variable each derive
+//! describes is built in [`super::outputs`].
+
+use super::intervals::Interval;
+use super::outputs::{self, Built};
+use super::plan::{DerivePlan, Plan, QuantilePlan, Rule, SourceRef};
+use super::sources;
+use super::spec::{bands_of_cuts, Derive, Method, RecodeFile};
+use crate::codebook::model::{Code, Codebook, ConditionText, Kind, Variable};
+use crate::condition::{self, Compiled, Resolve, VarType};
+use crate::diagnostic::{nearest, Diagnostic};
+
+/// The rules whose findings make a derived variable impossible to compute.
+pub const BLOCKING: &[&str] = &[
+    "recode.unknown-source",
+    "recode.order",
+    "recode.not-numeric",
+    "recode.expression",
+    "recode.duplicate-name",
+    "recode.quantile-source",
+    "recode.missing-code",
+];
+
+#[derive(Debug)]
+pub struct Validated {
+    pub diagnostics: Vec<Diagnostic>,
+    /// The compiled recodes; `None` when a blocking finding prevents it.
+    pub plan: Option<Plan>,
+}
+
+impl Validated {
+    pub fn blocking(&self) -> impl Iterator<Item = &Diagnostic> {
+        self.diagnostics
+            .iter()
+            .filter(|d| BLOCKING.contains(&d.rule))
+    }
+}
+
+/// Names of recode conditions: codebook variables first, then derived variables at
+/// `codebook.variables.len() + i`.
+struct Names<'a> {
+    codebook: &'a Codebook,
+    derived: Vec<(String, VarType)>,
+}
+
+impl Resolve for Names<'_> {
+    fn resolve(&self, name: &str) -> Option<(usize, VarType)> {
+        if let Some(i) = self.codebook.variable_index(name) {
+            return Some((i, crate::codebook::conditions::var_type(self.codebook, i)));
+        }
+        let n = self.codebook.variables.len();
+        self.derived
+            .iter()
+            .position(|(d, _)| d == name)
+            .map(|i| (n + i, self.derived[i].1))
+    }
+
+    fn names(&self) -> Vec<String> {
+        let mut names: Vec<String> = self
+            .codebook
+            .variables
+            .iter()
+            .map(|v| v.name.clone())
+            .collect();
+        names.extend(self.derived.iter().map(|(d, _)| d.clone()));
+        names
+    }
+}
+
+fn var_type_of_output(derive: &Derive) -> VarType {
+    let text = match &derive.method {
+        Method::Map(entries) => entries.iter().any(|e| matches!(e.code, Code::Text(_))),
+        Method::Intervals(rules) => rules.iter().any(|r| matches!(r.code, Code::Text(_))),
+        _ => false,
+    };
+    if text {
+        VarType::Text
+    } else {
+        VarType::Number
+    }
+}
+
+struct Validator<'a> {
+    codebook: &'a Codebook,
+    names: Names<'a>,
+    out: Vec<Diagnostic>,
+    /// One per derive checked so far; `None` when it is blocked.
+    built: Vec<Option<DerivePlan>>,
+    /// Per derive: it reads quantile bands, directly or through other derives.
+    on_quantiles: Vec<bool>,
+}
+
+/// Validate a recode file against its codebook.
+pub fn validate(codebook: &Codebook, recodes: &RecodeFile) -> Validated {
+    let names = Names {
+        codebook,
+        derived: recodes
+            .derives
+            .iter()
+            .map(|d| (d.name.clone(), var_type_of_output(d)))
+            .collect(),
+    };
+    let mut v = Validator {
+        codebook,
+        names,
+        out: Vec::new(),
+        built: Vec::new(),
+        on_quantiles: Vec::new(),
+    };
+    for (i, d) in recodes.derives.iter().enumerate() {
+        let before = v.out.len();
+        let plan = v.derive(i, d, recodes);
+        let blocked = v.out[before..].iter().any(|x| BLOCKING.contains(&x.rule));
+        v.built.push(if blocked { None } else { plan });
+    }
+    let mut diagnostics = v.out;
+    diagnostics.sort_by_key(|d| d.place.map_or((usize::MAX, 0), |p| (p.file, p.offset)));
+    let plan = if v.built.iter().all(Option::is_some) {
+        Some(Plan {
+            derives: v.built.into_iter().flatten().collect(),
+            variables: codebook.variables.len(),
+        })
+    } else {
+        None
+    };
+    Validated { diagnostics, plan }
+}
+
+/// What `from` names.
+enum Resolved<'p> {
+    Found(SourceRef, &'p Variable),
+    /// Already reported, or depends on a blocked derive.
+    Blocked,
+}
+
+impl Validator<'_> {
+    fn push(&mut self, d: Diagnostic) {
+        self.out.push(d);
+    }
+
+    fn source_variable(&self, r: SourceRef) -> Option<&Variable> {
+        match r {
+            SourceRef::Codebook(i) => Some(&self.codebook.variables[i]),
+            SourceRef::Derived(j) => self.built.get(j)?.as_ref().map(|p| &p.output),
+        }
+    }
+
+    fn resolve_from(&mut self, i: usize, d: &Derive) -> Resolved<'_> {
+        let Some(from) = &d.from else {
+            return Resolved::Blocked;
+        };
+        if let Some(k) = self.codebook.variable_index(&from.name) {
+            return Resolved::Found(SourceRef::Codebook(k), &self.codebook.variables[k]);
+        }
+        match self.names.derived.iter().position(|(n, _)| *n == from.name) {
+            Some(j) if j < i => match self.built[j].as_ref() {
+                Some(p) => Resolved::Found(SourceRef::Derived(j), &p.output),
+                None => Resolved::Blocked,
+            },
+            Some(j) => {
+                let what = if j == i {
+                    "itself"
+                } else {
+                    "a variable derived further down"
+                };
+                self.push(
+                    Diagnostic::new(
+                        "recode.order",
+                        format!("`{}` is derived from {what}, `{}`", d.name, from.name),
+                    )
+                    .at(from.place, "not derived yet")
+                    .help("a derived variable may read only codebook variables and variables derived above it; move that entry up"),
+                );
+                Resolved::Blocked
+            }
+            None => {
+                let names = self.names.names();
+                let mut diag = Diagnostic::new(
+                    "recode.unknown-source",
+                    format!("`{}` is derived from `{}`, which is neither in the codebook nor derived above", d.name, from.name),
+                )
+                .at(from.place, "unknown variable");
+                if let Some(n) = nearest(&from.name, names.iter().map(String::as_str)) {
+                    diag = diag.help(format!("did you mean `{n}`?"));
+                }
+                self.push(diag);
+                Resolved::Blocked
+            }
+        }
+    }
+
+    /// Compile an `expr` (`condition` false) or `when` (`condition` true).
+    fn compile(
+        &mut self,
+        i: usize,
+        text: &ConditionText,
+        what: &str,
+        condition: bool,
+    ) -> Option<Compiled> {
+        let expr = match condition::parse(&text.text) {
+            Ok(e) => e,
+            Err(e) => {
+                let mut d = Diagnostic::new(
+                    "recode.expression",
+                    format!("the {what} does not parse: {}", e.message),
+                )
+                .at(text.place_of(e.span.offset, e.span.len), e.message.clone());
+                d.help = e.help;
+                self.push(d);
+                return None;
+            }
+        };
+        let compiled = if condition {
+            condition::compile_condition(&expr, &self.names)
+        } else {
+            condition::compile(&expr, &self.names)
+        };
+        let compiled = match compiled {
+            Ok(c) => c,
+            Err(errors) => {
+                for e in errors {
+                    let rule = if e.message.starts_with("unknown variable") {
+                        "recode.unknown-source"
+                    } else {
+                        "recode.expression"
+                    };
+                    let mut d = Diagnostic::new(rule, format!("in the {what}: {}", e.message))
+                        .at(text.place_of(e.span.offset, e.span.len), e.message.clone());
+                    d.help = e.help;
+                    self.push(d);
+                }
+                return None;
+            }
+        };
+        if !condition && compiled.is_condition() {
+            self.push(
+                Diagnostic::new(
+                    "recode.expression",
+                    format!("the {what} is a condition, not a number"),
+                )
+                .at(text.place, "yields true or false")
+                .help("an `expr` computes a number, such as `bike_km / bike_days`"),
+            );
+            return None;
+        }
+        let n = self.codebook.variables.len();
+        let mut blocked = false;
+        for &var in compiled.variables() {
+            if var < n {
+                continue;
+            }
+            let j = var - n;
+            if j >= i {
+                let name = &self.names.derived[j].0;
+                self.push(
+                    Diagnostic::new(
+                        "recode.order",
+                        format!("the {what} reads `{name}`, which is derived {}", if j == i { "by this very entry" } else { "further down" }),
+                    )
+                    .at(text.place, "reads a variable not derived yet")
+                    .help("a derived variable may read only codebook variables and variables derived above it"),
+                );
+                blocked = true;
+            } else if self.built[j].is_none() {
+                blocked = true;
+            }
+        }
+        (!blocked).then_some(compiled)
+    }
+
+    fn derive(&mut self, i: usize, d: &Derive, recodes: &RecodeFile) -> Option<DerivePlan> {
+        self.check_name(i, d, recodes);
+        let n = self.codebook.variables.len();
+        let when = match &d.when {
+            Some(w) => Some(self.compile(i, w, &format!("`when` of `{}`", d.name), true)?),
+            None => None,
+        };
+        let reads_quantiles = |v: &Self, vars: &[usize]| {
+            vars.iter()
+                .any(|&x| x >= n && v.on_quantiles.get(x - n).copied().unwrap_or(false))
+        };
+        let mut on_quantiles = when
+            .as_ref()
+            .is_some_and(|w| reads_quantiles(self, w.variables()));
+        let result = if let Method::Expr(text) = &d.method {
+            if d.kind != Kind::Numeric {
+                self.push(
+                    Diagnostic::new("recode.expression", format!("`{}` has an `expr`, which derives a numeric variable, but `kind = \"{}\"`", d.name, d.kind))
+                        .at(d.method_place, "computes a number")
+                        .help("remove `kind`, or derive bands from the number in a second entry"),
+                );
+            }
+            let compiled = self.compile(i, text, &format!("`expr` of `{}`", d.name), false);
+            match compiled {
+                Some(c) => {
+                    on_quantiles |= reads_quantiles(self, c.variables());
+                    let inputs: Vec<SourceRef> = c
+                        .variables()
+                        .iter()
+                        .map(|&x| {
+                            if x < n {
+                                SourceRef::Codebook(x)
+                            } else {
+                                SourceRef::Derived(x - n)
+                            }
+                        })
+                        .collect();
+                    let owned: Vec<Variable> = inputs
+                        .iter()
+                        .filter_map(|r| self.source_variable(*r))
+                        .cloned()
+                        .collect();
+                    let vars: Vec<&Variable> = owned.iter().collect();
+                    let divides = text.text.contains('/');
+                    outputs::build(
+                        self.codebook,
+                        d,
+                        &vars,
+                        None,
+                        when.is_some(),
+                        divides,
+                        &mut self.out,
+                    )
+                    .map(|b| (b, Rule::Expr(c), None, None))
+                }
+                None => None,
+            }
+        } else {
+            let (source, var) = match self.resolve_from(i, d) {
+                Resolved::Found(r, v) => (r, v.clone()),
+                Resolved::Blocked => {
+                    self.on_quantiles.push(false);
+                    return None;
+                }
+            };
+            if let SourceRef::Derived(j) = source {
+                on_quantiles |= self.on_quantiles[j];
+            }
+            self.source_rule(d, source, &var, when.is_some())
+                .map(|(b, rule, q)| (b, rule, q, Some(source)))
+        };
+        let quantile_entry = matches!(d.method, Method::Quantiles { .. });
+        if quantile_entry && on_quantiles {
+            self.push(
+                Diagnostic::new(
+                    "recode.quantile-source",
+                    format!(
+                        "the quantile bands of `{}` would read quantile bands derived above",
+                        d.name
+                    ),
+                )
+                .at(
+                    d.method_place,
+                    "cut points come from a first pass over codebook variables",
+                )
+                .help("base `from`, `weight` and `when` on codebook variables"),
+            );
+        }
+        self.on_quantiles.push(on_quantiles || quantile_entry);
+        let (built, rule, quantiles, source) = result?;
+        let Built {
+            output,
+            missing_from,
+            kind_codes,
+        } = built;
+        let coded_source = source
+            .and_then(|s| self.source_variable(s))
+            .is_some_and(|v| v.kind.is_coded());
+        Some(DerivePlan {
+            name: d.name.clone(),
+            source,
+            rule,
+            quantiles,
+            when,
+            missing_from,
+            kind_codes,
+            output,
+            coded_source,
+            method: d.method.name(),
+        })
+    }
+
+    fn check_name(&mut self, i: usize, d: &Derive, recodes: &RecodeFile) {
+        let clash = if self.codebook.variable(&d.name).is_some() {
+            Some("a codebook variable")
+        } else if recodes.derives[..i].iter().any(|e| e.name == d.name) {
+            Some("a variable derived above")
+        } else {
+            None
+        };
+        if let Some(what) = clash {
+            self.push(
+                Diagnostic::new(
+                    "recode.duplicate-name",
+                    format!("`{}` is already the name of {what}", d.name),
+                )
+                .at(d.place, "name taken")
+                .help(
+                    "give the derived variable its own name, e.g. with a `_band` or `_grp` suffix",
+                ),
+            );
+        }
+    }
+
+    /// Bands and maps: check against the source and build the rule.
+    #[allow(clippy::type_complexity)]
+    fn source_rule(
+        &mut self,
+        d: &Derive,
+        source: SourceRef,
+        var: &Variable,
+        has_when: bool,
+    ) -> Option<(Built, Rule, Option<QuantilePlan>)> {
+        let numeric_values = var.kind == Kind::Numeric
+            || (var.kind.is_coded() && var.has_numeric_codes() && !var.categories.is_empty());
+        if d.method.is_banding() && !numeric_values {
+            self.push(
+                Diagnostic::new(
+                    "recode.not-numeric",
+                    format!(
+                        "`{}` bands `{}`, a {} variable{}",
+                        d.name,
+                        var.name,
+                        var.kind,
+                        if var.kind.is_coded() {
+                            " with text codes"
+                        } else {
+                            ""
+                        }
+                    ),
+                )
+                .at(d.method_place, "bands need numbers")
+                .help("band a numeric variable, or collapse codes with `map`"),
+            );
+            return None;
+        }
+        let domain = sources::domain_of(var);
+        let (rule, codes, quantiles) = match &d.method {
+            Method::Cuts { cuts, closed } => {
+                let bands = bands_of_cuts(cuts, *closed);
+                sources::missing_in_bands(&mut self.out, d, var, &bands, true);
+                let coded: Vec<(Interval, Code)> = bands
+                    .into_iter()
+                    .enumerate()
+                    .map(|(k, b)| (b, Code::Number((k + 1) as f64)))
+                    .collect();
+                let codes = coded
+                    .iter()
+                    .map(|(b, c)| (c.clone(), b.to_string()))
+                    .collect();
+                (Rule::Bands(coded), codes, None)
+            }
+            Method::Quantiles {
+                bands,
+                kind,
+                weight,
+                weighted,
+                closed,
+            } => {
+                if let SourceRef::Derived(_) = source {
+                    self.push(
+                        Diagnostic::new(
+                            "recode.quantile-source",
+                            format!(
+                                "the quantile bands of `{}` are cut from `{}`, a derived variable",
+                                d.name, var.name
+                            ),
+                        )
+                        .at(
+                            d.from.as_ref().and_then(|f| f.place),
+                            "derived, not in the codebook",
+                        )
+                        .help("cut quantiles from a codebook variable"),
+                    );
+                    return None;
+                }
+                let weight = self.quantile_weight(d, weight.as_ref(), *weighted)?;
+                let codes = (1..=*bands)
+                    .map(|k| {
+                        (
+                            Code::Number(k as f64),
+                            format!("quantile band {k} of {bands}"),
+                        )
+                    })
+                    .collect();
+                let plan = QuantilePlan {
+                    bands: *bands,
+                    kind: *kind,
+                    weight,
+                    closed: *closed,
+                    cuts: Vec::new(),
+                };
+                (Rule::Bands(Vec::new()), codes, Some(plan))
+            }
+            Method::Intervals(rules) => {
+                let bands: Vec<Interval> = rules.iter().map(|r| r.interval).collect();
+                for gap in domain.uncovered(&bands) {
+                    self.push(
+                        Diagnostic::new("recode.gap", format!("{} of `{}` {} no band of `{}`", sources::describe(&gap, var), var.name, if sources::single(&gap) { "falls in" } else { "fall in" }, d.name))
+                            .at(d.method_place, format!("{gap} uncovered"))
+                            .help("extend a band to take these values (`above`/`below` make a bound exclusive), or narrow the source's range"),
+                    );
+                }
+                for (a, ra) in rules.iter().enumerate() {
+                    for rb in &rules[a + 1..] {
+                        for shared in domain.shared(&ra.interval, &rb.interval) {
+                            self.push(
+                                Diagnostic::new(
+                                    "recode.overlap",
+                                    format!(
+                                        "the bands {} and {} of `{}` share {}",
+                                        ra.interval,
+                                        rb.interval,
+                                        d.name,
+                                        sources::describe(&shared, var)
+                                    ),
+                                )
+                                .at(rb.place, format!("overlaps {}", ra.interval))
+                                .help("make one of the bounds exclusive with `above` or `below`"),
+                            );
+                        }
+                    }
+                }
+                sources::missing_in_bands(&mut self.out, d, var, &bands, false);
+                let mut codes: Vec<(Code, String)> = Vec::new();
+                for r in rules {
+                    if !codes.iter().any(|(c, _)| *c == r.code) {
+                        codes.push((r.code.clone(), r.interval.to_string()));
+                    }
+                }
+                (
+                    Rule::Bands(rules.iter().map(|r| (r.interval, r.code.clone())).collect()),
+                    codes,
+                    None,
+                )
+            }
+            Method::Map(entries) => {
+                let pairs = sources::map_entries(&mut self.out, d, var, &domain, entries);
+                let mut codes: Vec<(Code, String)> = Vec::new();
+                for e in entries {
+                    if !codes.iter().any(|(c, _)| *c == e.code) {
+                        codes.push((e.code.clone(), format!("code {}", e.code)));
+                    }
+                }
+                (Rule::Map(pairs), codes, None)
+            }
+            Method::Expr(_) => unreachable!("handled by the caller"),
+        };
+        let built = outputs::build(
+            self.codebook,
+            d,
+            &[var],
+            Some(&codes),
+            has_when,
+            false,
+            &mut self.out,
+        )?;
+        Some((built, rule, quantiles))
+    }
+
+    fn quantile_weight(
+        &mut self,
+        d: &Derive,
+        weight: Option<&crate::codebook::model::Named>,
+        weighted: Option<bool>,
+    ) -> Option<Option<usize>> {
+        if weighted == Some(false) {
+            return Some(None);
+        }
+        let named = weight.or(self.codebook.dataset.weight.as_ref());
+        let Some(named) = named else {
+            if weighted == Some(true) {
+                self.push(
+                    Diagnostic::new("recode.unknown-source", format!("`{}` asks for weighted quantiles but names no weight", d.name))
+                        .at(d.method_place, "no weight")
+                        .help("add `weight = \"...\"` to the entry, or `weight` to the codebook's [dataset]"),
+                );
+                return None;
+            }
+            return Some(None);
+        };
+        match self.codebook.variable_index(&named.name) {
+            Some(k) if self.codebook.variables[k].kind == Kind::Numeric => Some(Some(k)),
+            Some(_) => {
+                self.push(
+                    Diagnostic::new(
+                        "recode.not-numeric",
+                        format!(
+                            "the weight `{}` of `{}` is not a numeric variable",
+                            named.name, d.name
+                        ),
+                    )
+                    .at(
+                        weight.and_then(|w| w.place).or(d.method_place),
+                        "not numeric",
+                    ),
+                );
+                None
+            }
+            // An unknown dataset weight is a lint error of the codebook.
+            None if weight.is_none() => Some(None),
+            None => {
+                self.push(
+                    Diagnostic::new(
+                        "recode.unknown-source",
+                        format!(
+                            "the weight `{}` of `{}` is not a codebook variable",
+                            named.name, d.name
+                        ),
+                    )
+                    .at(named.place, "unknown variable"),
+                );
+                None
+            }
+        }
+    }
+}

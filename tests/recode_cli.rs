@@ -1,0 +1,418 @@
+//! `concord recode` through the built binary: applying the demo recodes end to end, bad
+//! input, division by zero, and the quantile and cut banding compared with numpy.
+
+use std::collections::HashMap;
+use std::fs;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use assert_cmd::cargo::CommandCargoExt;
+use serde_json::Value as Json;
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn concord() -> Command {
+    Command::cargo_bin("concord").unwrap()
+}
+
+fn run(args: &[&dyn AsRef<std::ffi::OsStr>]) -> (i32, String, String) {
+    let out = concord().args(args).output().unwrap();
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn read_csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
+    let mut r = csv::Reader::from_path(path).unwrap();
+    let header = r.headers().unwrap().iter().map(str::to_string).collect();
+    let rows = r
+        .records()
+        .map(|x| x.unwrap().iter().map(str::to_string).collect())
+        .collect();
+    (header, rows)
+}
+
+fn column(header: &[String], name: &str) -> usize {
+    header.iter().position(|h| h == name).unwrap()
+}
+
+#[test]
+fn demo_recodes_apply_and_the_output_passes_check() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out.csv");
+    let audit = dir.path().join("audit.json");
+    let codebook = root().join("demo-data/codebook.toml");
+    let (code, stdout, stderr) = run(&[
+        &"recode",
+        &codebook,
+        &root().join("demo-data/recodes.toml"),
+        &root().join("demo-data/wave1.csv"),
+        &"-o",
+        &out,
+        &"--audit",
+        &audit,
+    ]);
+    assert_eq!(code, 0, "{stdout}\n{stderr}");
+    let out_codebook = dir.path().join("out.codebook.toml");
+    assert!(out_codebook.is_file());
+    let (lint, lint_out, _) = run(&[&"lint", &out_codebook]);
+    assert_eq!(lint, 0, "{lint_out}");
+    let (check, check_out, check_err) = run(&[&"check", &out_codebook, &out]);
+    assert_eq!(check, 0, "{check_out}\n{check_err}");
+
+    // Independent recounts from the written file, against the audit.
+    let (header, rows) = read_csv(&out);
+    let audit: Json = serde_json::from_str(&fs::read_to_string(&audit).unwrap()).unwrap();
+    let table = |name: &str| {
+        audit["audit"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| t["name"] == name)
+            .unwrap()
+            .clone()
+    };
+    // solid_fuel: count (fuel code, derived code) pairs in the file.
+    let (fuel, solid) = (column(&header, "fuel"), column(&header, "solid_fuel"));
+    let mut pairs: HashMap<(String, String), u64> = HashMap::new();
+    for r in &rows {
+        *pairs
+            .entry((r[fuel].clone(), r[solid].clone()))
+            .or_default() += 1;
+    }
+    for row in table("solid_fuel")["rows"].as_array().unwrap() {
+        let key = (
+            row["source"].as_str().unwrap().to_string(),
+            row["derived"].as_str().unwrap_or("").to_string(),
+        );
+        assert_eq!(
+            pairs.get(&key).copied().unwrap_or(0),
+            row["count"].as_u64().unwrap(),
+            "solid_fuel {key:?}"
+        );
+    }
+    // heat_band: recount each band of heat_hours by hand, and the missing codes.
+    let (hours, band) = (column(&header, "heat_hours"), column(&header, "heat_band"));
+    let mut by_band = [0u64; 4];
+    let mut missing: HashMap<String, u64> = HashMap::new();
+    for r in &rows {
+        match r[hours].trim() {
+            "97" | "98" => {
+                assert_eq!(r[band], r[hours].trim(), "missing codes carry over");
+                *missing.entry(r[hours].trim().to_string()).or_default() += 1;
+            }
+            text => {
+                let h: f64 = text.parse().unwrap();
+                let expected = if h <= 4.0 {
+                    1
+                } else if h <= 8.0 {
+                    2
+                } else if h <= 12.0 {
+                    3
+                } else {
+                    4
+                };
+                assert_eq!(r[band], expected.to_string(), "heat_hours {h}");
+                by_band[expected - 1] += 1;
+            }
+        }
+    }
+    let t = table("heat_band");
+    let rows_of = |class: &str| -> Vec<Json> {
+        t["rows"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|r| r["source_class"] == class)
+            .cloned()
+            .collect()
+    };
+    let bands: Vec<u64> = rows_of("band")
+        .iter()
+        .map(|r| r["count"].as_u64().unwrap())
+        .collect();
+    assert_eq!(bands, by_band);
+    for r in rows_of("missing-code") {
+        let code = r["source"].as_str().unwrap();
+        assert_eq!(r["count"].as_u64().unwrap(), missing[code], "{code}");
+    }
+    // stove_age_band: cases without a wood stove are skipped (empty), counted as `when`.
+    let (stove, age_band) = (
+        column(&header, "wood_stove"),
+        column(&header, "stove_age_band"),
+    );
+    let not_stove = rows.iter().filter(|r| r[stove].trim() != "1").count() as u64;
+    assert!(rows
+        .iter()
+        .filter(|r| r[stove].trim() != "1")
+        .all(|r| r[age_band].is_empty()));
+    let when: u64 = table("stove_age_band")["rows"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|r| r["source_class"] == "when-not-true")
+        .map(|r| r["count"].as_u64().unwrap())
+        .sum();
+    assert_eq!(when, not_stove);
+    // The quantile cut points are printed in the audit.
+    assert_eq!(
+        table("heat_quartile")["cut_points"]
+            .as_array()
+            .unwrap()
+            .len(),
+        3
+    );
+}
+
+#[test]
+fn static_validation_exit_codes() {
+    let fx = root().join("tests/fixtures/recodes");
+    let codebook = fx.join("codebook.toml");
+    let (ok, stdout, _) = run(&[&"recode", &codebook, &fx.join("clean.toml")]);
+    assert_eq!(ok, 0, "{stdout}");
+    let (gap, stdout, _) = run(&[&"recode", &codebook, &fx.join("gap-decimals.toml")]);
+    assert_eq!(gap, 1);
+    assert!(stdout.contains("recode.gap"), "{stdout}");
+    assert!(
+        stdout.contains("values 29.1 to 29.9 (the interval (29, 30))"),
+        "{stdout}"
+    );
+    let (json, stdout, _) = run(&[
+        &"recode",
+        &codebook,
+        &fx.join("gap-decimals.toml"),
+        &"--format",
+        &"json",
+    ]);
+    assert_eq!(json, 1);
+    let body: Json = serde_json::from_str(&stdout).unwrap();
+    assert_eq!(body["errors"], 3);
+    assert_eq!(body["diagnostics"][1]["line"], 9);
+    let (never, _, _) = run(&[
+        &"recode",
+        &codebook,
+        &fx.join("gap-decimals.toml"),
+        &"--fail-on",
+        &"never",
+    ]);
+    assert_eq!(never, 0);
+}
+
+/// Run a recode file against the fixture data; returns exit code, stderr and whether any
+/// file appeared in the output folder.
+fn apply_fixture(recodes: &str, data: &str) -> (i32, String, bool, PathBuf, tempfile::TempDir) {
+    let fx = root().join("tests/fixtures/recodes");
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("out.csv");
+    let (code, stdout, stderr) = run(&[
+        &"recode",
+        &fx.join("codebook.toml"),
+        &fx.join(recodes),
+        &fx.join(data),
+        &"-o",
+        &out,
+    ]);
+    let written = fs::read_dir(dir.path()).unwrap().count() > 0;
+    (code, format!("{stdout}{stderr}"), written, out, dir)
+}
+
+#[test]
+fn bad_input_is_refused_and_nothing_is_written() {
+    for (fixture, exit, needle) in [
+        ("unknown-source.toml", 2, "did you mean `age`?"),
+        ("bands-on-text.toml", 2, "recode.not-numeric"),
+        (
+            "map-key-not-a-code.toml",
+            1,
+            "`5` in the `map` of `active` is not a code",
+        ),
+        ("invalid/syntax-error.toml", 2, "recode.syntax"),
+        ("invalid/unknown-key.toml", 2, "did you mean `from`?"),
+        ("invalid/two-methods.toml", 2, "gives 2 methods (cuts, map)"),
+    ] {
+        let (code, output, written, _, _dir) = apply_fixture(fixture, "division.csv");
+        assert_eq!(code, exit, "{fixture}: {output}");
+        assert!(output.contains(needle), "{fixture}: {output}");
+        assert!(!written, "{fixture} wrote a file");
+    }
+}
+
+#[test]
+fn an_output_over_an_input_is_refused() {
+    let fx = root().join("tests/fixtures/recodes");
+    let dir = tempfile::tempdir().unwrap();
+    let data = dir.path().join("data.csv");
+    fs::copy(fx.join("division.csv"), &data).unwrap();
+    let before = fs::read(&data).unwrap();
+    let (code, _, stderr) = run(&[
+        &"recode",
+        &fx.join("codebook.toml"),
+        &fx.join("division.toml"),
+        &data,
+        &"-o",
+        &data,
+    ]);
+    assert_eq!(code, 2, "{stderr}");
+    assert_eq!(fs::read(&data).unwrap(), before);
+}
+
+#[test]
+fn division_by_zero_is_missing_of_kind_other_and_counted() {
+    let (code, output, _, out, _dir) = apply_fixture("division.toml", "division.csv");
+    assert_eq!(code, 0, "{output}");
+    let (header, rows) = read_csv(&out);
+    let per_a = column(&header, "per_a");
+    let cells: Vec<&str> = rows.iter().map(|r| r[per_a].as_str()).collect();
+    // 10/2, 12/0, 0/0, a refused (-7 carries over), 8/4.
+    assert_eq!(cells, ["5", "-9", "-9", "-7", "2"]);
+    assert!(output.contains("division by zero / not finite"), "{output}");
+    let line = output
+        .lines()
+        .find(|l| l.contains("division by zero"))
+        .unwrap();
+    assert!(line.contains(" 2 "), "{line}");
+    let written = fs::read_to_string(out.with_extension("codebook.toml")).unwrap();
+    assert!(
+        written.contains("code = -9, label = \"Not computable\", kind = \"other\""),
+        "{written}"
+    );
+}
+
+// ---- numpy as an outside reference ----
+
+/// A deterministic sample: a 64-bit linear congruential generator (Knuth's MMIX constants),
+/// values with two decimals and some ties.
+fn sample(n: usize) -> Vec<f64> {
+    let mut state: u64 = 0x2545_f491_4f6c_dd1d;
+    (0..n)
+        .map(|_| {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            ((state >> 33) % 10_000) as f64 / 100.0
+        })
+        .collect()
+}
+
+fn python(script: &str) -> Option<String> {
+    let out = Command::new("python3")
+        .arg("-c")
+        .arg(script)
+        .output()
+        .ok()?;
+    out.status
+        .success()
+        .then(|| String::from_utf8_lossy(&out.stdout).into_owned())
+}
+
+/// numpy (PyPI), a general-purpose reference: `numpy.quantile(method="linear")` is
+/// Hyndman & Fan type 7, `method="weibull"` type 6; `numpy.digitize(x, cuts, right=True)`
+/// numbers right-closed bands (a, b] from 0, `right=False` left-closed ones [a, b). Runs
+/// when numpy is importable; under CI=true it must.
+#[test]
+fn quantile_and_cut_bands_match_numpy() {
+    if python("import numpy").is_none() {
+        assert!(
+            std::env::var("CI").as_deref() != Ok("true"),
+            "numpy is not importable, but CI=true requires this test to run (pip install numpy)"
+        );
+        eprintln!("skipped: numpy not importable");
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let values = sample(997);
+    let mut data = String::from("id,x\n");
+    for (i, v) in values.iter().enumerate() {
+        data.push_str(&format!("C{i},{v}\n"));
+    }
+    fs::write(dir.path().join("data.csv"), &data).unwrap();
+    fs::write(
+        dir.path().join("codebook.toml"),
+        "[dataset]\nname = \"numpy\"\nid = [\"id\"]\n\n[[variables]]\nname = \"id\"\nkind = \"identifier\"\n\n\
+         [[variables]]\nname = \"x\"\nkind = \"numeric\"\nrange = { min = 0, max = 100 }\ndecimals = 2\n",
+    )
+    .unwrap();
+    let labels = |n: usize| {
+        (1..=n)
+            .map(|k| format!("{{ code = {k}, label = \"band {k}\" }}"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let recodes = format!(
+        "[[derive]]\nname = \"q7\"\nfrom = \"x\"\nquantiles = 5\ncategories = [{l5}]\n\n\
+         [[derive]]\nname = \"q6\"\nfrom = \"x\"\nquantiles = 4\nquantile_type = 6\ncategories = [{l4}]\n\n\
+         [[derive]]\nname = \"q7_left\"\nfrom = \"x\"\nquantiles = 4\nclosed = \"left\"\ncategories = [{l4}]\n\n\
+         [[derive]]\nname = \"cut_right\"\nfrom = \"x\"\ncuts = [10, 25.5, 50, 80]\ncategories = [{l5}]\n\n\
+         [[derive]]\nname = \"cut_left\"\nfrom = \"x\"\ncuts = [10, 25.5, 50, 80]\nclosed = \"left\"\ncategories = [{l5}]\n",
+        l4 = labels(4),
+        l5 = labels(5)
+    );
+    fs::write(dir.path().join("recodes.toml"), recodes).unwrap();
+    let out = dir.path().join("out.csv");
+    let audit = dir.path().join("audit.json");
+    let (code, stdout, stderr) = run(&[
+        &"recode",
+        &dir.path().join("codebook.toml"),
+        &dir.path().join("recodes.toml"),
+        &dir.path().join("data.csv"),
+        &"-o",
+        &out,
+        &"--audit",
+        &audit,
+    ]);
+    assert_eq!(code, 0, "{stdout}\n{stderr}");
+    let script = format!(
+        r#"
+import csv, json, numpy as np
+rows = list(csv.DictReader(open({data:?})))
+x = np.array([float(r["x"]) for r in rows])
+out = {{}}
+for name, n, method in [("q7", 5, "linear"), ("q6", 4, "weibull"), ("q7_left", 4, "linear")]:
+    cuts = np.quantile(x, [j / n for j in range(1, n)], method=method)
+    right = name != "q7_left"
+    out[name] = {{"cuts": [float(c) for c in cuts],
+                  "bands": [int(b) + 1 for b in np.digitize(x, cuts, right=right)]}}
+cuts = np.array([10, 25.5, 50, 80])
+out["cut_right"] = {{"bands": [int(b) + 1 for b in np.digitize(x, cuts, right=True)]}}
+out["cut_left"] = {{"bands": [int(b) + 1 for b in np.searchsorted(cuts, x, side="right")]}}
+print(json.dumps(out))
+"#,
+        data = dir.path().join("data.csv").display().to_string()
+    );
+    let numpy: Json =
+        serde_json::from_str(&python(&script).expect("the numpy script runs")).unwrap();
+    let audit: Json = serde_json::from_str(&fs::read_to_string(&audit).unwrap()).unwrap();
+    let (header, rows) = read_csv(&out);
+    for name in ["q7", "q6", "q7_left", "cut_right", "cut_left"] {
+        let col = column(&header, name);
+        let ours: Vec<i64> = rows.iter().map(|r| r[col].parse().unwrap()).collect();
+        let theirs: Vec<i64> = numpy[name]["bands"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|b| b.as_i64().unwrap())
+            .collect();
+        assert_eq!(ours, theirs, "{name}: bands differ from numpy");
+        if let Some(cuts) = numpy[name]["cuts"].as_array() {
+            let table = audit["audit"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .find(|t| t["name"] == name)
+                .unwrap();
+            let ours = table["cut_points"].as_array().unwrap();
+            assert_eq!(ours.len(), cuts.len(), "{name}");
+            for (a, b) in ours.iter().zip(cuts) {
+                let (a, b) = (a.as_f64().unwrap(), b.as_f64().unwrap());
+                assert!(
+                    (a - b).abs() <= 1e-12 * b.abs().max(1.0),
+                    "{name}: cut {a} vs numpy {b}"
+                );
+            }
+        }
+    }
+}
