@@ -220,7 +220,11 @@ pub fn run(args: Args) -> Outcome {
         args.codebook.display(),
         args.recodes.display()
     );
-    let text = recode::codebook_toml::write(&out_codebook, &header);
+    let options = crate::codebook::write_toml::TomlOptions {
+        header: header.lines().map(str::to_string).collect(),
+        ..Default::default()
+    };
+    let text = crate::codebook::write_toml::to_toml(&out_codebook, &options);
     if let Err(e) = crate::output::write_atomic(&codebook_out, |w| w.write_all(text.as_bytes())) {
         return could_not_run(e);
     }

@@ -6,12 +6,11 @@
 //! and overlaps between bands by exact interval arithmetic, unmapped codes, missing codes
 //! that would land in a real band) and compiles it into a [`plan::Plan`]; [`apply`] streams
 //! a data file through the plan, writing the derived columns and the [`audit`]
-//! cross-tabulation of every source value by its derived value. [`codebook_toml`] writes the
-//! extended codebook. Nothing here prints.
+//! cross-tabulation of every source value by its derived value; the extended codebook is
+//! written by [`crate::codebook::write_toml`]. Nothing here prints.
 
 pub mod apply;
 pub mod audit;
-pub mod codebook_toml;
 pub mod intervals;
 pub mod outputs;
 pub mod plan;
