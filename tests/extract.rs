@@ -342,3 +342,69 @@ fn refuses_to_write_over_an_input() {
     assert_eq!(result.status.code(), Some(2));
     assert_eq!(std::fs::read(&data).unwrap(), before);
 }
+
+#[test]
+fn derived_variables_from_a_recode_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("r.csv");
+    let result = concord(&[
+        "extract",
+        "demo-data/codebook.toml",
+        "demo-data/wave1.csv",
+        "-o",
+        out.to_str().unwrap(),
+        "--recodes",
+        "demo-data/recodes.toml",
+        "--keep",
+        "fuel,solid_fuel",
+    ]);
+    assert_eq!(
+        result.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&result.stderr)
+    );
+    let (header, rows) = read_csv(&out);
+    assert_eq!(header, ["fuel", "solid_fuel"]);
+    // demo-data/recodes.toml maps fuel 4 (wood) and 5 (coal or peat) to solid fuel.
+    let (src_header, src_rows) = read_csv(&root().join("demo-data/wave1.csv"));
+    let solid = column(&src_header, &src_rows, "fuel")
+        .iter()
+        .filter(|f| ["4", "5"].contains(f))
+        .count();
+    let written = column(&header, &rows, "solid_fuel");
+    assert_eq!(
+        written
+            .iter()
+            .filter(|v| v.starts_with("Solid fuel"))
+            .count(),
+        solid
+    );
+    let sidecar = dir.path().join("r.codebook.toml");
+    let check = concord(&["check", sidecar.to_str().unwrap(), out.to_str().unwrap()]);
+    assert_eq!(
+        check.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&check.stdout)
+    );
+    // A broken recode file stops the extract before anything is written.
+    let bad = dir.path().join("bad.toml");
+    std::fs::write(
+        &bad,
+        "[[derive]]\nname = \"x\"\nfrom = \"nope\"\ncuts = [1]\n",
+    )
+    .unwrap();
+    let out2 = dir.path().join("never.csv");
+    let result = concord(&[
+        "extract",
+        "demo-data/codebook.toml",
+        "demo-data/wave1.csv",
+        "-o",
+        out2.to_str().unwrap(),
+        "--recodes",
+        bad.to_str().unwrap(),
+    ]);
+    assert_eq!(result.status.code(), Some(2));
+    assert!(!out2.exists());
+}

@@ -44,6 +44,9 @@ pub struct Args {
     /// Keep direct identifiers (variables of kind `identifier`), which are left out by default.
     #[arg(long)]
     include_identifiers: bool,
+    /// A recode file: its derived variables can be kept, dropped and filtered on like any other.
+    #[arg(long, value_name = "FILE")]
+    recodes: Option<PathBuf>,
 }
 
 #[derive(Clone, Copy, ValueEnum)]
@@ -73,7 +76,7 @@ pub fn run(args: Args) -> Outcome {
     };
     let mut diagnostics = loaded.problems;
     diagnostics.extend(codebook::lint::lint(&loaded.codebook));
-    let codebook = loaded.codebook;
+    let mut codebook = loaded.codebook;
     let errors: Vec<_> = diagnostics
         .iter()
         .filter(|d| d.severity == Severity::Error)
@@ -113,37 +116,25 @@ pub fn run(args: Args) -> Outcome {
         missing_labels: args.missing_labels,
         include_identifiers: args.include_identifiers,
     };
+    // With recodes, the derived variables are computed first into a temporary file, which
+    // is then extracted like any data file.
+    let derived = match &args.recodes {
+        Some(recodes) => match derive_first(&mut codebook, recodes, &args.data) {
+            Ok(file) => Some(file),
+            Err(outcome) => return outcome,
+        },
+        None => None,
+    };
+    let data_path = derived.as_ref().map_or(args.data.as_path(), |f| f.path());
     let selection = match extract::select(&codebook, &options) {
         Ok(s) => s,
         Err(e) => return could_not_run(e),
     };
-    let filter = match &args.filter {
-        None => None,
-        Some(text) => {
-            let condition = ConditionText {
-                text: text.clone(),
-                place: None,
-                exact: false,
-            };
-            match conditions::compile(&codebook, &condition, "--where condition") {
-                Ok(c) => Some(c),
-                Err(ds) => {
-                    for d in &ds {
-                        eprintln!(
-                            "concord: {}{}",
-                            d.message,
-                            d.help
-                                .as_ref()
-                                .map(|h| format!(" ({h})"))
-                                .unwrap_or_default()
-                        );
-                    }
-                    return Outcome::CouldNotRun;
-                }
-            }
-        }
+    let filter = match compile_filter(&codebook, args.filter.as_deref()) {
+        Ok(f) => f,
+        Err(outcome) => return outcome,
     };
-    let mut source = match crate::data::open(&args.data, &check::source_options(&codebook)) {
+    let mut source = match crate::data::open(data_path, &check::source_options(&codebook)) {
         Ok(s) => s,
         Err(e) => return could_not_run(e),
     };
@@ -207,6 +198,116 @@ pub fn run(args: Args) -> Outcome {
     }
     notices(&args, &codebook, &selection, &summary, &sidecar_out);
     Outcome::Passed
+}
+
+fn compile_filter(
+    codebook: &crate::codebook::model::Codebook,
+    text: Option<&str>,
+) -> Result<Option<crate::condition::Compiled>, Outcome> {
+    let Some(text) = text else { return Ok(None) };
+    let condition = ConditionText {
+        text: text.to_string(),
+        place: None,
+        exact: false,
+    };
+    conditions::compile(codebook, &condition, "--where condition")
+        .map(Some)
+        .map_err(|ds| {
+            for d in &ds {
+                eprintln!(
+                    "concord: {}{}",
+                    d.message,
+                    d.help
+                        .as_ref()
+                        .map(|h| format!(" ({h})"))
+                        .unwrap_or_default()
+                );
+            }
+            Outcome::CouldNotRun
+        })
+}
+
+/// Validate and apply a recode file to the data, into a temporary CSV; `codebook` becomes
+/// the codebook of that file (the source variables plus the derived ones).
+fn derive_first(
+    codebook: &mut crate::codebook::model::Codebook,
+    recodes: &Path,
+    data: &Path,
+) -> Result<tempfile::NamedTempFile, Outcome> {
+    use crate::recode::{self, apply, validate};
+    let spec = recode::load(recodes, codebook.sources.len()).map_err(could_not_run)?;
+    codebook.sources.push(spec.source.clone());
+    let validated = validate::validate(codebook, &spec);
+    let errors: Vec<_> = validated
+        .diagnostics
+        .iter()
+        .filter(|d| d.severity == Severity::Error)
+        .collect();
+    let plan = match validated.plan.clone() {
+        Some(p) if errors.is_empty() => p,
+        _ => {
+            for d in errors {
+                eprint!(
+                    "{}",
+                    report::render_miette(&d.to_report(&codebook.sources), stderr_style())
+                );
+            }
+            eprintln!(
+                "concord: the recodes in {} have errors; `concord recode` explains them",
+                recodes.display()
+            );
+            return Err(Outcome::CouldNotRun);
+        }
+    };
+    let mut plan = plan;
+    let options = check::source_options(codebook);
+    let mut excluded = vec![0; plan.derives.len()];
+    let failed = |e: apply::ApplyError| match e {
+        apply::ApplyError::Data(e) => could_not_run(e),
+        apply::ApplyError::Codebook(_) => Outcome::CouldNotRun,
+        apply::ApplyError::Write(e) => {
+            eprintln!("concord: cannot write a temporary file: {e}");
+            Outcome::CouldNotRun
+        }
+    };
+    if plan.needs_first_pass() {
+        if data.as_os_str() == "-" {
+            eprintln!(
+                "concord: quantile bands read the data twice, so DATA cannot be standard input"
+            );
+            return Err(Outcome::CouldNotRun);
+        }
+        let mut source = crate::data::open(data, &options).map_err(could_not_run)?;
+        excluded = apply::cut_quantiles(codebook, &mut plan, &mut source).map_err(failed)?;
+    }
+    let mut source = crate::data::open(data, &options).map_err(could_not_run)?;
+    let mut temp = tempfile::NamedTempFile::new().map_err(|e| {
+        eprintln!("concord: cannot create a temporary file: {e}");
+        Outcome::CouldNotRun
+    })?;
+    let places: Vec<_> = spec.derives.iter().map(|d| d.place).collect();
+    {
+        let mut w = std::io::BufWriter::new(temp.as_file_mut());
+        apply::apply(
+            codebook,
+            &plan,
+            &mut source,
+            &mut w,
+            apply::Columns::All,
+            &places,
+            &excluded,
+        )
+        .map_err(failed)?;
+        std::io::Write::flush(&mut w).map_err(|e| {
+            eprintln!("concord: cannot write a temporary file: {e}");
+            Outcome::CouldNotRun
+        })?;
+    }
+    let mut derived = apply::output_codebook(codebook, &plan, apply::Columns::All);
+    derived.file = crate::codebook::model::FileLayout::default();
+    derived.sources = codebook.sources.clone();
+    *codebook = derived;
+    Ok(temp)
 }
 
 fn notices(
