@@ -69,7 +69,7 @@ impl Line {
 
     fn float(&mut self, name: &str, value: Option<f64>) -> &mut Self {
         if let Some(v) = value {
-            self.0[column(name)] = v.to_string();
+            self.0[column(name)] = significant(v);
         }
         self
     }
@@ -207,5 +207,36 @@ fn kind_name(kind: RowKind) -> &'static str {
         RowKind::Missing => "missing",
         RowKind::Blank => "blank",
         RowKind::Invalid => "invalid",
+    }
+}
+
+/// A number with at most 12 significant digits, so floating-point noise such as
+/// `32.471999999999994` reads as `32.472` in a spreadsheet; JSON keeps full precision.
+fn significant(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() {
+        return v.to_string();
+    }
+    let magnitude = v.abs().log10().floor() as i32 + 1;
+    let decimals = (12 - magnitude).clamp(0, 300) as usize;
+    let text = format!("{v:.decimals$}");
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text
+    }
+}
+
+#[cfg(test)]
+mod significant_tests {
+    use super::significant;
+
+    #[test]
+    fn trims_floating_point_noise_only() {
+        assert_eq!(significant(32.471999999999994), "32.472");
+        assert_eq!(significant(19.051530423660694), "19.0515304237");
+        assert_eq!(significant(2.953589e-07), "0.0000002953589");
+        assert_eq!(significant(600.0), "600");
+        assert_eq!(significant(-1.5), "-1.5");
+        assert_eq!(significant(0.0), "0");
     }
 }
