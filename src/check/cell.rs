@@ -52,22 +52,57 @@ pub enum Cell {
     Invalid(ValueRule),
 }
 
+/// `str::trim`, with a fast path for the usual cell that starts and ends with a visible
+/// ASCII character (no Unicode white space can be there, so nothing is trimmed).
+#[inline]
+pub fn trim(text: &str) -> &str {
+    match text.as_bytes() {
+        [] => text,
+        [first, .., last] | [first @ last]
+            if (0x21..0x7f).contains(first) && (0x21..0x7f).contains(last) =>
+        {
+            text
+        }
+        _ => text.trim(),
+    }
+}
+
+/// Exact powers of ten as `f64` (every one up to 1e22 is representable).
+const POW10: [f64; 23] = [
+    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
+    1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
+];
+
 /// A plain decimal number: optional sign, digits, optional fraction. Returns the value and
 /// the number of significant decimal places (trailing zeros do not count).
+///
+/// Survey cells are short, so the digits are gathered into an integer on the way: when it
+/// stays below 2^53 and there are at most 22 fractional digits, `digits / 10^fraction` is one
+/// correctly rounded division of two exact values, the same `f64` that `str::parse` gives
+/// (Clinger's fast path). Longer numbers go to `str::parse`.
 #[inline]
 pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
     let b = text.as_bytes();
+    let negative = b.first() == Some(&b'-');
     let mut i = usize::from(matches!(b.first(), Some(b'+' | b'-')));
     let digits_start = i;
+    let mut mantissa = 0u64;
     while i < b.len() && b[i].is_ascii_digit() {
+        mantissa = mantissa
+            .wrapping_mul(10)
+            .wrapping_add(u64::from(b[i] - b'0'));
         i += 1;
     }
     let mut int_digits = i - digits_start;
     let mut decimals = 0u32;
+    let mut frac_len = 0usize;
     if i < b.len() && b[i] == b'.' {
         i += 1;
         let frac_start = i;
         while i < b.len() && b[i].is_ascii_digit() {
+            mantissa = mantissa
+                .wrapping_mul(10)
+                .wrapping_add(u64::from(b[i] - b'0'));
             i += 1;
         }
         let frac = &b[frac_start..i];
@@ -75,10 +110,21 @@ pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
             .iter()
             .rposition(|&c| c != b'0')
             .map_or(0, |p| p as u32 + 1);
-        int_digits += frac.len();
+        frac_len = frac.len();
+        int_digits += frac_len;
     }
     if i != b.len() || int_digits == 0 {
         return None;
+    }
+    // 15 digits cannot wrap and stay below 2^53.
+    if int_digits <= 15 {
+        let n = mantissa as f64;
+        let n = if frac_len == 0 {
+            n
+        } else {
+            n / POW10[frac_len]
+        };
+        return Some((if negative { -n } else { n }, decimals));
     }
     text.parse::<f64>().ok().map(|n| (n, decimals))
 }
@@ -86,9 +132,46 @@ pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
 /// Classify a trimmed cell of the variable planned in `plan`.
 #[inline]
 pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
-    if cell.is_empty() {
-        return Cell::Blank;
+    classify_counted(plan, cell).0
+}
+
+/// Category of a valid cell for the tallies: the category its text names as a code, when
+/// the variable has categories at all. (`number` is what the code lookup is given.)
+#[inline]
+fn category_of(plan: &ColumnPlan, cell: &str, number: Option<f64>) -> Option<u32> {
+    if !plan.codes.has_categories() {
+        return None;
     }
+    match plan.codes.lookup(cell, number) {
+        Some(CodeMeaning::Category(c)) => Some(c),
+        _ => None,
+    }
+}
+
+/// [`classify`], also giving the index of the category a valid cell counts towards in the
+/// variable's tallies, so the row loop need not look the code up a second time.
+#[inline]
+pub fn classify_counted(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
+    if cell.is_empty() {
+        return (Cell::Blank, None);
+    }
+    match classify_inner(plan, cell) {
+        // A category code read as a number: the lookup already said which category.
+        counted @ (Cell::Valid(Seen::Number(_)), Some(_)) => counted,
+        // A date counts towards a category only if its day number is a code (tallies
+        // look codes up by the value conditions see).
+        (valid @ Cell::Valid(Seen::Number(n)), None) => match plan.parse {
+            Parse::Date { .. } => (valid, category_of(plan, cell, Some(n))),
+            _ => (valid, None),
+        },
+        // Text seen by conditions: the category its text names as a text code.
+        (valid @ Cell::Valid(Seen::Text), _) => (valid, category_of(plan, cell, None)),
+        (other, _) => (other, None),
+    }
+}
+
+#[inline]
+fn classify_inner(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
     match &plan.parse {
         Parse::Coded => {
             let number = if plan.codes.has_numbers() {
@@ -97,49 +180,54 @@ pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
                 None
             };
             match plan.codes.lookup(cell, number) {
-                Some(CodeMeaning::Category(_)) => Cell::Valid(match number {
-                    Some(n) if plan.numeric_codes => Seen::Number(n),
-                    _ => Seen::Text,
-                }),
-                Some(CodeMeaning::Missing(kind)) => Cell::Missing(kind),
+                Some(CodeMeaning::Category(c)) => match number {
+                    Some(n) if plan.numeric_codes => (Cell::Valid(Seen::Number(n)), Some(c)),
+                    _ => (Cell::Valid(Seen::Text), None),
+                },
+                Some(CodeMeaning::Missing(kind)) => (Cell::Missing(kind), None),
                 None if plan.numeric_codes && number.is_none() => {
-                    Cell::Invalid(ValueRule::NotANumber)
+                    (Cell::Invalid(ValueRule::NotANumber), None)
                 }
-                None => Cell::Invalid(ValueRule::UnlabelledCode),
+                None => (Cell::Invalid(ValueRule::UnlabelledCode), None),
             }
         }
         Parse::Numeric { range, decimals } => {
             let parsed = parse_decimal(cell);
             match plan.codes.lookup(cell, parsed.map(|(n, _)| n)) {
-                Some(CodeMeaning::Missing(kind)) => return Cell::Missing(kind),
-                Some(CodeMeaning::Category(_)) => {
-                    return Cell::Valid(parsed.map_or(Seen::Text, |(n, _)| Seen::Number(n)))
+                Some(CodeMeaning::Missing(kind)) => return (Cell::Missing(kind), None),
+                Some(CodeMeaning::Category(c)) => {
+                    return match parsed {
+                        Some((n, _)) => (Cell::Valid(Seen::Number(n)), Some(c)),
+                        None => (Cell::Valid(Seen::Text), None),
+                    }
                 }
                 None => {}
             }
             let Some((n, places)) = parsed else {
-                return Cell::Invalid(ValueRule::NotANumber);
+                return (Cell::Invalid(ValueRule::NotANumber), None);
             };
-            if range.is_some_and(|r| !r.contains(n)) {
+            let cell = if range.is_some_and(|r| !r.contains(n)) {
                 Cell::Invalid(ValueRule::OutOfRange)
             } else if decimals.is_some_and(|d| places > d) {
                 Cell::Invalid(ValueRule::TooManyDecimals)
             } else {
                 Cell::Valid(Seen::Number(n))
-            }
+            };
+            (cell, None)
         }
         Parse::Date { range } => {
             if let Some(CodeMeaning::Missing(kind)) =
                 plan.codes.lookup(cell, missing_number(plan, cell))
             {
-                return Cell::Missing(kind);
+                return (Cell::Missing(kind), None);
             }
-            match parse_iso_date(cell) {
+            let cell = match parse_iso_date(cell) {
                 Some(d) if range.is_none_or(|r| r.contains(f64::from(d))) => {
                     Cell::Valid(Seen::Number(f64::from(d)))
                 }
                 _ => Cell::Invalid(ValueRule::BadDate),
-            }
+            };
+            (cell, None)
         }
         Parse::Text {
             pattern,
@@ -148,16 +236,18 @@ pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
             if let Some(CodeMeaning::Missing(kind)) =
                 plan.codes.lookup(cell, missing_number(plan, cell))
             {
-                return Cell::Missing(kind);
+                return (Cell::Missing(kind), None);
             }
-            if max_length.is_some_and(|m| cell.len() as u64 > m && cell.chars().count() as u64 > m)
+            let cell = if max_length
+                .is_some_and(|m| cell.len() as u64 > m && cell.chars().count() as u64 > m)
             {
                 Cell::Invalid(ValueRule::TooLong)
             } else if pattern.as_ref().is_some_and(|p| !p.is_match(cell)) {
                 Cell::Invalid(ValueRule::PatternMismatch)
             } else {
                 Cell::Valid(Seen::Text)
-            }
+            };
+            (cell, None)
         }
     }
 }
