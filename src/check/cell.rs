@@ -82,6 +82,23 @@ const POW10: [f64; 23] = [
 /// (Clinger's fast path). Longer numbers go to `str::parse`.
 #[inline]
 pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
+    parse_number(text).map(|p| (p.value, p.decimals))
+}
+
+/// A cell read as a plain decimal number.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Parsed {
+    pub value: f64,
+    /// Significant decimal places.
+    pub decimals: u32,
+    /// The value as an index when it is a whole number from 0 up (`-0` and `2.00` count),
+    /// known without going through `f64`; `None` for other values and very long numbers.
+    pub whole: Option<usize>,
+}
+
+/// [`parse_decimal`], also giving a whole number as an index for dense code tables.
+#[inline]
+pub fn parse_number(text: &str) -> Option<Parsed> {
     let b = text.as_bytes();
     let negative = b.first() == Some(&b'-');
     let mut i = usize::from(matches!(b.first(), Some(b'+' | b'-')));
@@ -116,18 +133,39 @@ pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
     if i != b.len() || int_digits == 0 {
         return None;
     }
-    // 15 digits cannot wrap and stay below 2^53.
+    // 15 digits cannot wrap and stay below 2^53. (Converted as i64: one instruction.)
     if int_digits <= 15 {
-        let n = mantissa as f64;
+        let n = mantissa as i64 as f64;
         let n = if frac_len == 0 {
             n
         } else {
             n / POW10[frac_len]
         };
-        return Some((if negative { -n } else { n }, decimals));
+        let whole = (decimals == 0 && (!negative || mantissa == 0))
+            .then(|| (mantissa / POW10_INT[frac_len]) as usize);
+        return Some(Parsed {
+            value: if negative { -n } else { n },
+            decimals,
+            whole,
+        });
     }
-    text.parse::<f64>().ok().map(|n| (n, decimals))
+    text.parse::<f64>().ok().map(|value| Parsed {
+        value,
+        decimals,
+        whole: None,
+    })
 }
+
+/// Powers of ten up to the longest fraction of the fast path.
+const POW10_INT: [u64; 16] = {
+    let mut p = [1u64; 16];
+    let mut i = 1;
+    while i < 16 {
+        p[i] = p[i - 1] * 10;
+        i += 1;
+    }
+    p
+};
 
 /// Classify a trimmed cell of the variable planned in `plan`.
 #[inline]
@@ -174,12 +212,13 @@ pub fn classify_counted(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
 fn classify_inner(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
     match &plan.parse {
         Parse::Coded => {
-            let number = if plan.codes.has_numbers() {
-                parse_decimal(cell).map(|(n, _)| n)
+            let parsed = if plan.codes.has_numbers() {
+                parse_number(cell)
             } else {
                 None
             };
-            match plan.codes.lookup(cell, number) {
+            let number = parsed.map(|p| p.value);
+            match plan.codes.lookup_parsed(cell, parsed) {
                 Some(CodeMeaning::Category(c)) => match number {
                     Some(n) if plan.numeric_codes => (Cell::Valid(Seen::Number(n)), Some(c)),
                     _ => (Cell::Valid(Seen::Text), None),
@@ -192,18 +231,23 @@ fn classify_inner(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
             }
         }
         Parse::Numeric { range, decimals } => {
-            let parsed = parse_decimal(cell);
-            match plan.codes.lookup(cell, parsed.map(|(n, _)| n)) {
+            let parsed = parse_number(cell);
+            match plan.codes.lookup_parsed(cell, parsed) {
                 Some(CodeMeaning::Missing(kind)) => return (Cell::Missing(kind), None),
                 Some(CodeMeaning::Category(c)) => {
                     return match parsed {
-                        Some((n, _)) => (Cell::Valid(Seen::Number(n)), Some(c)),
+                        Some(p) => (Cell::Valid(Seen::Number(p.value)), Some(c)),
                         None => (Cell::Valid(Seen::Text), None),
                     }
                 }
                 None => {}
             }
-            let Some((n, places)) = parsed else {
+            let Some(Parsed {
+                value: n,
+                decimals: places,
+                ..
+            }) = parsed
+            else {
                 return (Cell::Invalid(ValueRule::NotANumber), None);
             };
             let cell = if range.is_some_and(|r| !r.contains(n)) {
@@ -262,7 +306,7 @@ fn missing_number(plan: &ColumnPlan, cell: &str) -> Option<f64> {
 
 #[cfg(test)]
 mod tests {
-    use super::parse_decimal;
+    use super::{parse_decimal, parse_number};
 
     #[test]
     fn plain_decimals_only() {
@@ -277,5 +321,43 @@ mod tests {
         ] {
             assert_eq!(parse_decimal(bad), None, "{bad}");
         }
+    }
+
+    #[test]
+    fn fast_path_matches_std_parse() {
+        for text in [
+            "0",
+            "-0",
+            "7",
+            "0.1",
+            "0.3",
+            "2.675",
+            "1234.567",
+            "-9.99",
+            "123456789012345",
+            "0.000000000000001",
+            "99999999999999.9",
+            "1234567890123456",
+            "0.1234567890123456",
+        ] {
+            let (n, _) = parse_decimal(text).unwrap();
+            assert_eq!(
+                n.to_bits(),
+                text.parse::<f64>().unwrap().to_bits(),
+                "{text}"
+            );
+        }
+    }
+
+    #[test]
+    fn whole_numbers_index_dense_tables() {
+        let whole = |t: &str| parse_number(t).and_then(|p| p.whole);
+        assert_eq!(whole("12"), Some(12));
+        assert_eq!(whole("012"), Some(12));
+        assert_eq!(whole("2.00"), Some(2));
+        assert_eq!(whole("-0"), Some(0));
+        assert_eq!(whole("-1"), None);
+        assert_eq!(whole("2.5"), None);
+        assert_eq!(whole("1234567890123456"), None);
     }
 }

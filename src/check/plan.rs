@@ -7,6 +7,8 @@
 
 use regex::Regex;
 
+use super::cell::Parsed;
+
 use crate::codebook::conditions;
 use crate::codebook::model::{Code, Codebook, Kind, Layout, MissingKind, Range, Severity};
 use crate::condition::Compiled;
@@ -61,6 +63,26 @@ impl CodeTable {
         self.categories
     }
 
+    /// [`CodeTable::lookup`] for a cell already parsed: a whole number indexes the dense
+    /// table directly.
+    #[inline]
+    pub fn lookup_parsed(&self, cell: &str, parsed: Option<Parsed>) -> Option<CodeMeaning> {
+        match parsed {
+            // The same branch `lookup` takes for this value (a whole number below the
+            // table's length), without the float round trip.
+            Some(Parsed { whole: Some(i), .. }) if i < self.dense.len() => {
+                self.dense[i].or_else(|| self.lookup_text(cell))
+            }
+            Some(p) => self.lookup(cell, Some(p.value)),
+            None => self.lookup(cell, None),
+        }
+    }
+
+    #[inline]
+    fn lookup_text(&self, cell: &str) -> Option<CodeMeaning> {
+        self.texts.iter().find(|(t, _)| t == cell).map(|(_, m)| *m)
+    }
+
     /// The meaning of a trimmed cell, given its number when it parses as one.
     #[inline]
     pub fn lookup(&self, cell: &str, number: Option<f64>) -> Option<CodeMeaning> {
@@ -76,7 +98,7 @@ impl CodeTable {
                 return Some(*m);
             }
         }
-        self.texts.iter().find(|(t, _)| t == cell).map(|(_, m)| *m)
+        self.lookup_text(cell)
     }
 }
 
