@@ -219,7 +219,7 @@ impl Bitmap {
 const PIPELINE_MIN_BYTES: u64 = 4 * 1024 * 1024;
 
 /// Records handed from the reader thread to the checking thread at a time.
-const BATCH_RECORDS: usize = 1024;
+const BATCH_RECORDS: usize = 256;
 
 pub fn run(
     codebook: &Codebook,
