@@ -52,22 +52,74 @@ pub enum Cell {
     Invalid(ValueRule),
 }
 
+/// `str::trim`, with a fast path for the usual cell that starts and ends with a visible
+/// ASCII character (no Unicode white space can be there, so nothing is trimmed).
+#[inline]
+pub fn trim(text: &str) -> &str {
+    match text.as_bytes() {
+        [] => text,
+        [first, .., last] | [first @ last]
+            if (0x21..0x7f).contains(first) && (0x21..0x7f).contains(last) =>
+        {
+            text
+        }
+        _ => text.trim(),
+    }
+}
+
+/// Exact powers of ten as `f64` (every one up to 1e22 is representable).
+const POW10: [f64; 23] = [
+    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
+    1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
+];
+
 /// A plain decimal number: optional sign, digits, optional fraction. Returns the value and
 /// the number of significant decimal places (trailing zeros do not count).
+///
+/// Survey cells are short, so the digits are gathered into an integer on the way: when it
+/// stays below 2^53 and there are at most 22 fractional digits, `digits / 10^fraction` is one
+/// correctly rounded division of two exact values, the same `f64` that `str::parse` gives
+/// (Clinger's fast path). Longer numbers go to `str::parse`.
 #[inline]
 pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
+    parse_number(text).map(|p| (p.value, p.decimals))
+}
+
+/// A cell read as a plain decimal number.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Parsed {
+    pub value: f64,
+    /// Significant decimal places.
+    pub decimals: u32,
+    /// The value as an index when it is a whole number from 0 up (`-0` and `2.00` count),
+    /// known without going through `f64`; `None` for other values and very long numbers.
+    pub whole: Option<usize>,
+}
+
+/// [`parse_decimal`], also giving a whole number as an index for dense code tables.
+#[inline]
+pub fn parse_number(text: &str) -> Option<Parsed> {
     let b = text.as_bytes();
+    let negative = b.first() == Some(&b'-');
     let mut i = usize::from(matches!(b.first(), Some(b'+' | b'-')));
     let digits_start = i;
+    let mut mantissa = 0u64;
     while i < b.len() && b[i].is_ascii_digit() {
+        mantissa = mantissa
+            .wrapping_mul(10)
+            .wrapping_add(u64::from(b[i] - b'0'));
         i += 1;
     }
     let mut int_digits = i - digits_start;
     let mut decimals = 0u32;
+    let mut frac_len = 0usize;
     if i < b.len() && b[i] == b'.' {
         i += 1;
         let frac_start = i;
         while i < b.len() && b[i].is_ascii_digit() {
+            mantissa = mantissa
+                .wrapping_mul(10)
+                .wrapping_add(u64::from(b[i] - b'0'));
             i += 1;
         }
         let frac = &b[frac_start..i];
@@ -75,71 +127,151 @@ pub fn parse_decimal(text: &str) -> Option<(f64, u32)> {
             .iter()
             .rposition(|&c| c != b'0')
             .map_or(0, |p| p as u32 + 1);
-        int_digits += frac.len();
+        frac_len = frac.len();
+        int_digits += frac_len;
     }
     if i != b.len() || int_digits == 0 {
         return None;
     }
-    text.parse::<f64>().ok().map(|n| (n, decimals))
+    // 15 digits cannot wrap and stay below 2^53. (Converted as i64: one instruction.)
+    if int_digits <= 15 {
+        let n = mantissa as i64 as f64;
+        let n = if frac_len == 0 {
+            n
+        } else {
+            n / POW10[frac_len]
+        };
+        let whole = (decimals == 0 && (!negative || mantissa == 0))
+            .then(|| (mantissa / POW10_INT[frac_len]) as usize);
+        return Some(Parsed {
+            value: if negative { -n } else { n },
+            decimals,
+            whole,
+        });
+    }
+    text.parse::<f64>().ok().map(|value| Parsed {
+        value,
+        decimals,
+        whole: None,
+    })
 }
+
+/// Powers of ten up to the longest fraction of the fast path.
+const POW10_INT: [u64; 16] = {
+    let mut p = [1u64; 16];
+    let mut i = 1;
+    while i < 16 {
+        p[i] = p[i - 1] * 10;
+        i += 1;
+    }
+    p
+};
 
 /// Classify a trimmed cell of the variable planned in `plan`.
 #[inline]
 pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
-    if cell.is_empty() {
-        return Cell::Blank;
+    classify_counted(plan, cell).0
+}
+
+/// Category of a valid cell for the tallies: the category its text names as a code, when
+/// the variable has categories at all. (`number` is what the code lookup is given.)
+#[inline]
+fn category_of(plan: &ColumnPlan, cell: &str, number: Option<f64>) -> Option<u32> {
+    if !plan.codes.has_categories() {
+        return None;
     }
+    match plan.codes.lookup(cell, number) {
+        Some(CodeMeaning::Category(c)) => Some(c),
+        _ => None,
+    }
+}
+
+/// [`classify`], also giving the index of the category a valid cell counts towards in the
+/// variable's tallies, so the row loop need not look the code up a second time.
+#[inline]
+pub fn classify_counted(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
+    if cell.is_empty() {
+        return (Cell::Blank, None);
+    }
+    match classify_inner(plan, cell) {
+        // A category code read as a number: the lookup already said which category.
+        counted @ (Cell::Valid(Seen::Number(_)), Some(_)) => counted,
+        // A date counts towards a category only if its day number is a code (tallies
+        // look codes up by the value conditions see).
+        (valid @ Cell::Valid(Seen::Number(n)), None) => match plan.parse {
+            Parse::Date { .. } => (valid, category_of(plan, cell, Some(n))),
+            _ => (valid, None),
+        },
+        // Text seen by conditions: the category its text names as a text code.
+        (valid @ Cell::Valid(Seen::Text), _) => (valid, category_of(plan, cell, None)),
+        (other, _) => (other, None),
+    }
+}
+
+#[inline]
+fn classify_inner(plan: &ColumnPlan, cell: &str) -> (Cell, Option<u32>) {
     match &plan.parse {
         Parse::Coded => {
-            let number = if plan.codes.has_numbers() {
-                parse_decimal(cell).map(|(n, _)| n)
+            let parsed = if plan.codes.has_numbers() {
+                parse_number(cell)
             } else {
                 None
             };
-            match plan.codes.lookup(cell, number) {
-                Some(CodeMeaning::Category(_)) => Cell::Valid(match number {
-                    Some(n) if plan.numeric_codes => Seen::Number(n),
-                    _ => Seen::Text,
-                }),
-                Some(CodeMeaning::Missing(kind)) => Cell::Missing(kind),
+            let number = parsed.map(|p| p.value);
+            match plan.codes.lookup_parsed(cell, parsed) {
+                Some(CodeMeaning::Category(c)) => match number {
+                    Some(n) if plan.numeric_codes => (Cell::Valid(Seen::Number(n)), Some(c)),
+                    _ => (Cell::Valid(Seen::Text), None),
+                },
+                Some(CodeMeaning::Missing(kind)) => (Cell::Missing(kind), None),
                 None if plan.numeric_codes && number.is_none() => {
-                    Cell::Invalid(ValueRule::NotANumber)
+                    (Cell::Invalid(ValueRule::NotANumber), None)
                 }
-                None => Cell::Invalid(ValueRule::UnlabelledCode),
+                None => (Cell::Invalid(ValueRule::UnlabelledCode), None),
             }
         }
         Parse::Numeric { range, decimals } => {
-            let parsed = parse_decimal(cell);
-            match plan.codes.lookup(cell, parsed.map(|(n, _)| n)) {
-                Some(CodeMeaning::Missing(kind)) => return Cell::Missing(kind),
-                Some(CodeMeaning::Category(_)) => {
-                    return Cell::Valid(parsed.map_or(Seen::Text, |(n, _)| Seen::Number(n)))
+            let parsed = parse_number(cell);
+            match plan.codes.lookup_parsed(cell, parsed) {
+                Some(CodeMeaning::Missing(kind)) => return (Cell::Missing(kind), None),
+                Some(CodeMeaning::Category(c)) => {
+                    return match parsed {
+                        Some(p) => (Cell::Valid(Seen::Number(p.value)), Some(c)),
+                        None => (Cell::Valid(Seen::Text), None),
+                    }
                 }
                 None => {}
             }
-            let Some((n, places)) = parsed else {
-                return Cell::Invalid(ValueRule::NotANumber);
+            let Some(Parsed {
+                value: n,
+                decimals: places,
+                ..
+            }) = parsed
+            else {
+                return (Cell::Invalid(ValueRule::NotANumber), None);
             };
-            if range.is_some_and(|r| !r.contains(n)) {
+            let cell = if range.is_some_and(|r| !r.contains(n)) {
                 Cell::Invalid(ValueRule::OutOfRange)
             } else if decimals.is_some_and(|d| places > d) {
                 Cell::Invalid(ValueRule::TooManyDecimals)
             } else {
                 Cell::Valid(Seen::Number(n))
-            }
+            };
+            (cell, None)
         }
         Parse::Date { range } => {
             if let Some(CodeMeaning::Missing(kind)) =
                 plan.codes.lookup(cell, missing_number(plan, cell))
             {
-                return Cell::Missing(kind);
+                return (Cell::Missing(kind), None);
             }
-            match parse_iso_date(cell) {
+            let cell = match parse_iso_date(cell) {
                 Some(d) if range.is_none_or(|r| r.contains(f64::from(d))) => {
                     Cell::Valid(Seen::Number(f64::from(d)))
                 }
                 _ => Cell::Invalid(ValueRule::BadDate),
-            }
+            };
+            (cell, None)
         }
         Parse::Text {
             pattern,
@@ -148,16 +280,18 @@ pub fn classify(plan: &ColumnPlan, cell: &str) -> Cell {
             if let Some(CodeMeaning::Missing(kind)) =
                 plan.codes.lookup(cell, missing_number(plan, cell))
             {
-                return Cell::Missing(kind);
+                return (Cell::Missing(kind), None);
             }
-            if max_length.is_some_and(|m| cell.len() as u64 > m && cell.chars().count() as u64 > m)
+            let cell = if max_length
+                .is_some_and(|m| cell.len() as u64 > m && cell.chars().count() as u64 > m)
             {
                 Cell::Invalid(ValueRule::TooLong)
             } else if pattern.as_ref().is_some_and(|p| !p.is_match(cell)) {
                 Cell::Invalid(ValueRule::PatternMismatch)
             } else {
                 Cell::Valid(Seen::Text)
-            }
+            };
+            (cell, None)
         }
     }
 }
@@ -172,7 +306,7 @@ fn missing_number(plan: &ColumnPlan, cell: &str) -> Option<f64> {
 
 #[cfg(test)]
 mod tests {
-    use super::parse_decimal;
+    use super::{parse_decimal, parse_number};
 
     #[test]
     fn plain_decimals_only() {
@@ -187,5 +321,43 @@ mod tests {
         ] {
             assert_eq!(parse_decimal(bad), None, "{bad}");
         }
+    }
+
+    #[test]
+    fn fast_path_matches_std_parse() {
+        for text in [
+            "0",
+            "-0",
+            "7",
+            "0.1",
+            "0.3",
+            "2.675",
+            "1234.567",
+            "-9.99",
+            "123456789012345",
+            "0.000000000000001",
+            "99999999999999.9",
+            "1234567890123456",
+            "0.1234567890123456",
+        ] {
+            let (n, _) = parse_decimal(text).unwrap();
+            assert_eq!(
+                n.to_bits(),
+                text.parse::<f64>().unwrap().to_bits(),
+                "{text}"
+            );
+        }
+    }
+
+    #[test]
+    fn whole_numbers_index_dense_tables() {
+        let whole = |t: &str| parse_number(t).and_then(|p| p.whole);
+        assert_eq!(whole("12"), Some(12));
+        assert_eq!(whole("012"), Some(12));
+        assert_eq!(whole("2.00"), Some(2));
+        assert_eq!(whole("-0"), Some(0));
+        assert_eq!(whole("-1"), None);
+        assert_eq!(whole("2.5"), None);
+        assert_eq!(whole("1234567890123456"), None);
     }
 }

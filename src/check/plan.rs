@@ -7,6 +7,8 @@
 
 use regex::Regex;
 
+use super::cell::Parsed;
+
 use crate::codebook::conditions;
 use crate::codebook::model::{Code, Codebook, Kind, Layout, MissingKind, Range, Severity};
 use crate::condition::Compiled;
@@ -26,6 +28,8 @@ pub struct CodeTable {
     dense: Vec<Option<CodeMeaning>>,
     other_numbers: Vec<(f64, CodeMeaning)>,
     texts: Vec<(String, CodeMeaning)>,
+    /// Some code names a category (not only missing codes).
+    categories: bool,
 }
 
 /// Integer codes up to this size go into the dense table.
@@ -33,6 +37,7 @@ const DENSE_LIMIT: f64 = 4096.0;
 
 impl CodeTable {
     fn add(&mut self, code: &Code, meaning: CodeMeaning) {
+        self.categories |= matches!(meaning, CodeMeaning::Category(_));
         match code {
             Code::Number(n) if n.fract() == 0.0 && *n >= 0.0 && *n < DENSE_LIMIT => {
                 let i = *n as usize;
@@ -54,19 +59,46 @@ impl CodeTable {
         !self.texts.is_empty()
     }
 
+    pub fn has_categories(&self) -> bool {
+        self.categories
+    }
+
+    /// [`CodeTable::lookup`] for a cell already parsed: a whole number indexes the dense
+    /// table directly.
+    #[inline]
+    pub fn lookup_parsed(&self, cell: &str, parsed: Option<Parsed>) -> Option<CodeMeaning> {
+        match parsed {
+            // The same branch `lookup` takes for this value (a whole number below the
+            // table's length), without the float round trip.
+            Some(Parsed { whole: Some(i), .. }) if i < self.dense.len() => {
+                self.dense[i].or_else(|| self.lookup_text(cell))
+            }
+            Some(p) => self.lookup(cell, Some(p.value)),
+            None => self.lookup(cell, None),
+        }
+    }
+
+    #[inline]
+    fn lookup_text(&self, cell: &str) -> Option<CodeMeaning> {
+        self.texts.iter().find(|(t, _)| t == cell).map(|(_, m)| *m)
+    }
+
     /// The meaning of a trimmed cell, given its number when it parses as one.
     #[inline]
     pub fn lookup(&self, cell: &str, number: Option<f64>) -> Option<CodeMeaning> {
         if let Some(n) = number {
-            if n.fract() == 0.0 && n >= 0.0 && (n as usize) < self.dense.len() {
-                if let Some(m) = self.dense[n as usize] {
+            // `n as usize` truncates (and saturates), so an integer is one that survives the
+            // round trip; cheaper than `fract`, which is a libm call on baseline x86-64.
+            let i = n as usize;
+            if n >= 0.0 && i as f64 == n && i < self.dense.len() {
+                if let Some(m) = self.dense[i] {
                     return Some(m);
                 }
             } else if let Some((_, m)) = self.other_numbers.iter().find(|(c, _)| *c == n) {
                 return Some(*m);
             }
         }
-        self.texts.iter().find(|(t, _)| t == cell).map(|(_, m)| *m)
+        self.lookup_text(cell)
     }
 }
 
