@@ -136,6 +136,9 @@ pub struct ColumnPlan {
     pub identifier: bool,
     /// Part of `dataset.id`.
     pub key: bool,
+    /// Keep running statistics: only variables with documented mean, sd, min or max need
+    /// them, and skipping the update elsewhere saves a division per cell.
+    pub statistics: bool,
 }
 
 #[derive(Debug)]
@@ -247,6 +250,9 @@ pub fn compile(codebook: &Codebook, header: Option<&[String]>) -> Result<Plan, V
             universe,
             identifier: v.kind == Kind::Identifier,
             key: codebook.dataset.id.iter().any(|n| n.name == v.name),
+            statistics: v.documented.is_some_and(|d| {
+                d.mean.is_some() || d.sd.is_some() || d.min.is_some() || d.max.is_some()
+            }),
         });
     }
     let mut checks = Vec::new();

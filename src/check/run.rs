@@ -432,7 +432,7 @@ impl<'a> RowChecker<'a> {
             } else if let (Cell::Valid(seen), true) =
                 (self.cells[col.var], universe != Tri::Unknown)
             {
-                if let Seen::Number(n) = seen {
+                if let (Seen::Number(n), true) = (seen, col.statistics) {
                     tally.stats.push(n);
                 }
                 if let Some(c) = self.categories[col.var] {
