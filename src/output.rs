@@ -15,12 +15,47 @@ pub enum OutputError {
         help("choose another output path; inputs are never modified")
     )]
     IsInput { path: PathBuf },
-    #[error("cannot write `{path}`: {source}")]
+    #[error("cannot write `{path}`: the folder `{}` does not exist", folder.display())]
+    #[diagnostic(
+        code(concord::output::no_folder),
+        help("create the folder first, or choose an output path in an existing folder")
+    )]
+    NoFolder { path: PathBuf, folder: PathBuf },
+    // `cause`, not `source`: the cause is already in the message, and a `source` field
+    // would be printed a second time as the error's chain.
+    #[error("cannot write `{path}`: {cause}")]
     #[diagnostic(
         code(concord::output::unwritable),
         help("check that the folder exists and that you may write there")
     )]
-    Io { path: PathBuf, source: io::Error },
+    Io { path: PathBuf, cause: io::Error },
+}
+
+/// The folder `path` is written in.
+fn folder_of(path: &Path) -> &Path {
+    match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    }
+}
+
+/// A temporary file beside `path`, named `.concord-*` so a leftover is easy to recognise.
+fn temporary_beside(path: &Path) -> Result<tempfile::NamedTempFile, OutputError> {
+    let dir = folder_of(path);
+    if !dir.is_dir() {
+        return Err(OutputError::NoFolder {
+            path: path.to_path_buf(),
+            folder: dir.to_path_buf(),
+        });
+    }
+    tempfile::Builder::new()
+        .prefix(".concord-")
+        .tempfile_in(dir)
+        .map_err(|e| OutputError::Io {
+            path: path.to_path_buf(),
+            // tempfile's error names its own random file; the user knows only `path`.
+            cause: io::Error::from(e.kind()),
+        })
 }
 
 /// Fail when `output` is the same file as any of `inputs`.
@@ -49,17 +84,7 @@ pub struct AtomicFile {
 
 impl AtomicFile {
     pub fn create(path: &Path) -> Result<Self, OutputError> {
-        let dir = match path.parent() {
-            Some(p) if !p.as_os_str().is_empty() => p,
-            _ => Path::new("."),
-        };
-        let tmp = tempfile::Builder::new()
-            .prefix(".concord-")
-            .tempfile_in(dir)
-            .map_err(|source| OutputError::Io {
-                path: path.to_path_buf(),
-                source,
-            })?;
+        let tmp = temporary_beside(path)?;
         Ok(AtomicFile {
             path: path.to_path_buf(),
             tmp,
@@ -77,9 +102,9 @@ impl AtomicFile {
     /// Flush and move the file into place.
     pub fn commit(mut self) -> Result<(), OutputError> {
         let path = self.path.clone();
-        let err = |source| OutputError::Io {
+        let err = |cause| OutputError::Io {
             path: path.clone(),
-            source,
+            cause,
         };
         self.tmp.as_file_mut().flush().map_err(err)?;
         self.tmp.persist(&self.path).map_err(|e| err(e.error))?;
@@ -93,18 +118,11 @@ pub fn write_atomic<F>(path: &Path, write: F) -> Result<(), OutputError>
 where
     F: FnOnce(&mut dyn Write) -> io::Result<()>,
 {
-    let err = |source| OutputError::Io {
+    let err = |cause| OutputError::Io {
         path: path.to_path_buf(),
-        source,
+        cause,
     };
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".concord-")
-        .tempfile_in(dir)
-        .map_err(err)?;
+    let mut tmp = temporary_beside(path)?;
     {
         let mut buffered = io::BufWriter::new(tmp.as_file_mut());
         write(&mut buffered).map_err(err)?;
@@ -129,6 +147,20 @@ mod tests {
         assert!(result.is_err());
         assert!(!path.exists());
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
+
+    #[test]
+    fn missing_folder_is_named_once() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("no-such-folder").join("out.txt");
+        let err = write_atomic(&path, |w| w.write_all(b"x")).unwrap_err();
+        let message = err.to_string();
+        assert!(
+            message.contains("no-such-folder` does not exist"),
+            "{message}"
+        );
+        assert!(!message.contains(".concord-"), "{message}");
+        assert!(std::error::Error::source(&err).is_none());
     }
 
     #[test]

@@ -92,7 +92,11 @@ fn structure(codebook: &Codebook, plan: &plan::Plan, findings: &mut Findings, ro
                 "structure.case-count",
                 Target::File,
                 1,
-                format!("the file has {rows} rows, the codebook documents {cases} cases"),
+                format!(
+                    "the file has {rows} row{}, the codebook documents {cases} case{}",
+                    if rows == 1 { "" } else { "s" },
+                    if cases == 1 { "" } else { "s" }
+                ),
                 vec![Example {
                     row: None,
                     case: None,

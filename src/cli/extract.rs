@@ -2,6 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
+use clap::builder::NonEmptyStringValueParser;
 use clap::ValueEnum;
 
 use super::common::{could_not_run, stderr_style, Outcome};
@@ -27,10 +28,10 @@ pub struct Args {
     #[arg(long, value_name = "FILE")]
     codebook_out: Option<PathBuf>,
     /// Variables to write, in this order (comma-separated or repeated).
-    #[arg(long, value_delimiter = ',', value_name = "VARS")]
+    #[arg(long, value_delimiter = ',', value_name = "VARS", value_parser = NonEmptyStringValueParser::new())]
     keep: Option<Vec<String>>,
     /// Variables to leave out (comma-separated or repeated).
-    #[arg(long, value_delimiter = ',', value_name = "VARS")]
+    #[arg(long, value_delimiter = ',', value_name = "VARS", value_parser = NonEmptyStringValueParser::new())]
     drop: Vec<String>,
     /// Keep only cases for which this condition is true, e.g. `district == 2`.
     #[arg(long = "where", value_name = "CONDITION")]
@@ -88,7 +89,10 @@ pub fn run(args: Args) -> Outcome {
                 report::render_miette(&d.to_report(&codebook.sources), stderr_style())
             );
         }
-        eprintln!("concord: the codebook has lint errors; fix them before extracting (see `concord lint`)");
+        eprintln!(
+            "concord: the codebook {} has lint errors; fix them before extracting (see `concord lint`)",
+            args.codebook.display()
+        );
         return Outcome::CouldNotRun;
     }
     let sidecar_out = args
@@ -102,7 +106,10 @@ pub fn run(args: Args) -> Outcome {
         }
     }
     if args.output == sidecar_out {
-        eprintln!("concord: the extract and its codebook cannot be the same file");
+        eprintln!(
+            "concord: the extract and its codebook cannot both be {}; give --codebook-out another path",
+            args.output.display()
+        );
         return Outcome::CouldNotRun;
     }
     let options = extract::Options {
@@ -141,7 +148,15 @@ pub fn run(args: Args) -> Outcome {
     let header = source.headers().map(<[String]>::to_vec);
     let plan = match plan::compile(&codebook, header.as_deref()) {
         Ok(p) => p,
-        Err(_) => return Outcome::CouldNotRun,
+        Err(ds) => {
+            for d in &ds {
+                eprint!(
+                    "{}",
+                    report::render_miette(&d.to_report(&codebook.sources), stderr_style())
+                );
+            }
+            return Outcome::CouldNotRun;
+        }
     };
     let absent: Vec<&str> = selection
         .variables
@@ -152,12 +167,18 @@ pub fn run(args: Args) -> Outcome {
     if !absent.is_empty() {
         eprintln!(
             "concord: {} has no column for {}; run `concord check` first",
-            args.data.display(),
+            source.name(),
             absent.join(", ")
         );
         return Outcome::CouldNotRun;
     }
+    // Both files are created before the pass, so a folder that does not exist is reported
+    // before the data is read.
     let mut file = match AtomicFile::create(&args.output) {
+        Ok(f) => f,
+        Err(e) => return could_not_run(e),
+    };
+    let mut side = match AtomicFile::create(&sidecar_out) {
         Ok(f) => f,
         Err(e) => return could_not_run(e),
     };
@@ -185,10 +206,6 @@ pub fn run(args: Args) -> Outcome {
         &summary,
         &args.data.display().to_string(),
     );
-    let mut side = match AtomicFile::create(&sidecar_out) {
-        Ok(f) => f,
-        Err(e) => return could_not_run(e),
-    };
     if let Err(e) = std::io::Write::write_all(side.file(), text.as_bytes()) {
         eprintln!("concord: cannot write {}: {e}", sidecar_out.display());
         return Outcome::CouldNotRun;

@@ -1,5 +1,6 @@
 //! `concord recode CODEBOOK RECODES [DATA -o OUT]`
 
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use clap::ValueEnum;
@@ -7,6 +8,7 @@ use clap::ValueEnum;
 use super::common::{could_not_run, emit, stderr_style, stdout_style, FailOn, Outcome};
 use crate::codebook::{self, model::Severity};
 use crate::diagnostic::Diagnostic;
+use crate::output::{AtomicFile, OutputError};
 use crate::recode::{self, apply, validate};
 use crate::report::{self, recode as render};
 
@@ -157,6 +159,22 @@ pub fn run(args: Args) -> Outcome {
             return could_not_run(e);
         }
     }
+    // Every output is created (as a temporary file) before the data pass, so a folder that
+    // does not exist is reported at once, and all of them appear together at the end or
+    // not at all.
+    let create = |path: &Path| AtomicFile::create(path);
+    let mut data_file = match create(output) {
+        Ok(f) => f,
+        Err(e) => return could_not_run(e),
+    };
+    let mut codebook_file = match create(&codebook_out) {
+        Ok(f) => f,
+        Err(e) => return could_not_run(e),
+    };
+    let mut audit_file = match args.audit.as_deref().map(create).transpose() {
+        Ok(f) => f,
+        Err(e) => return could_not_run(e),
+    };
     let options = crate::check::source_options(&codebook);
     let mut excluded = vec![0; plan.derives.len()];
     if plan.needs_first_pass() {
@@ -172,7 +190,7 @@ pub fn run(args: Args) -> Outcome {
         };
         match apply::cut_quantiles(&codebook, &mut plan, &mut source) {
             Ok(x) => excluded = x,
-            Err(e) => return apply_failed(e, &codebook),
+            Err(e) => return apply_failed(e, &codebook, output),
         }
     }
     let mut source = match crate::data::open(data, &options) {
@@ -185,32 +203,17 @@ pub fn run(args: Args) -> Outcome {
         apply::Columns::All
     };
     let places: Vec<_> = recodes.derives.iter().map(|d| d.place).collect();
-    let mut result = None;
-    let written = crate::output::write_atomic(output, |w| {
-        match apply::apply(
-            &codebook,
-            &plan,
-            &mut source,
-            w,
-            columns,
-            &places,
-            &excluded,
-        ) {
-            Ok(applied) => {
-                result = Some(Ok(applied));
-                Ok(())
-            }
-            Err(e) => {
-                result = Some(Err(e));
-                Err(std::io::Error::other("the recode pass failed"))
-            }
-        }
-    });
-    let applied = match (result, written) {
-        (Some(Err(e)), _) => return apply_failed(e, &codebook),
-        (_, Err(e)) => return could_not_run(e),
-        (Some(Ok(a)), Ok(())) => a,
-        (None, Ok(())) => return Outcome::CouldNotRun,
+    let applied = match apply::apply(
+        &codebook,
+        &plan,
+        &mut source,
+        &mut std::io::BufWriter::new(data_file.file()),
+        columns,
+        &places,
+        &excluded,
+    ) {
+        Ok(a) => a,
+        Err(e) => return apply_failed(e, &codebook, output),
     };
     let out_codebook = apply::output_codebook(&codebook, &plan, columns);
     let header = format!(
@@ -225,10 +228,10 @@ pub fn run(args: Args) -> Outcome {
         ..Default::default()
     };
     let text = crate::codebook::write_toml::to_toml(&out_codebook, &options);
-    if let Err(e) = crate::output::write_atomic(&codebook_out, |w| w.write_all(text.as_bytes())) {
+    if let Err(e) = write_all(&mut codebook_file, &text) {
         return could_not_run(e);
     }
-    if let Some(path) = &args.audit {
+    if let (Some(path), Some(file)) = (&args.audit, audit_file.as_mut()) {
         let format =
             args.audit_format
                 .unwrap_or_else(|| match path.extension().and_then(|e| e.to_str()) {
@@ -241,9 +244,16 @@ pub fn run(args: Args) -> Outcome {
             AuditFormat::Csv => render::audit_csv(&applied.audits),
             AuditFormat::Json => render::audit_json(&applied.audits),
         };
-        if let Err(e) = crate::output::write_atomic(path, |w| w.write_all(text.as_bytes())) {
+        if let Err(e) = write_all(file, &text) {
             return could_not_run(e);
         }
+    }
+    let committed = data_file
+        .commit()
+        .and_then(|_| codebook_file.commit())
+        .and_then(|_| audit_file.map_or(Ok(()), AtomicFile::commit));
+    if let Err(e) = committed {
+        return could_not_run(e);
     }
     let mut diagnostics = validated.diagnostics;
     diagnostics.extend(applied.diagnostics);
@@ -259,15 +269,31 @@ pub fn run(args: Args) -> Outcome {
     )
 }
 
-fn apply_failed(e: apply::ApplyError, codebook: &codebook::model::Codebook) -> Outcome {
+fn write_all(file: &mut AtomicFile, text: &str) -> Result<(), OutputError> {
+    file.file()
+        .write_all(text.as_bytes())
+        .map_err(|cause| OutputError::Io {
+            path: file.path().to_path_buf(),
+            cause,
+        })
+}
+
+fn apply_failed(e: apply::ApplyError, codebook: &codebook::model::Codebook, out: &Path) -> Outcome {
     match e {
         apply::ApplyError::Data(e) => could_not_run(e),
         apply::ApplyError::Codebook(ds) => {
             print_diagnostics(&ds.iter().collect::<Vec<_>>(), &codebook.sources);
             Outcome::CouldNotRun
         }
+        apply::ApplyError::ColumnsMissing { data, names } => {
+            eprintln!(
+                "concord: {data} has no column for {}, which the recodes read; nothing was written (run `concord check` to compare the file with the codebook)",
+                names.join(", ")
+            );
+            Outcome::CouldNotRun
+        }
         apply::ApplyError::Write(e) => {
-            eprintln!("concord: cannot write the output: {e}");
+            eprintln!("concord: cannot write {}: {e}", out.display());
             Outcome::CouldNotRun
         }
     }

@@ -2,6 +2,7 @@
 
 use std::path::PathBuf;
 
+use clap::builder::NonEmptyStringValueParser;
 use clap::ValueEnum;
 
 use super::common::{could_not_run, emit, stderr_style, Outcome};
@@ -19,13 +20,19 @@ pub struct Args {
     /// The data file (CSV, TSV, fixed-width; gzip is detected); `-` reads standard input.
     data: PathBuf,
     /// The variable to tabulate: categories and missing kinds, or a summary when numeric.
+    #[arg(value_parser = NonEmptyStringValueParser::new())]
     variable: String,
     /// Cross-tabulate by this variable (its categories, or the distinct values of a
     /// numeric variable with at most 50 of them).
-    #[arg(long, value_name = "VAR")]
+    #[arg(long, value_name = "VAR", value_parser = NonEmptyStringValueParser::new())]
     by: Option<String>,
     /// Weight variable; the codebook's `dataset.weight` is used when this is not given.
-    #[arg(long, value_name = "VAR", conflicts_with = "unweighted")]
+    #[arg(
+        long,
+        value_name = "VAR",
+        conflicts_with = "unweighted",
+        value_parser = NonEmptyStringValueParser::new()
+    )]
     weight: Option<String>,
     /// Do not weight, even when the codebook names a weight.
     #[arg(long)]

@@ -126,6 +126,17 @@ pub fn read_text(path: &Path, what: &str) -> Result<String, LoadError> {
         )
         .with_help("check the path and that you may read the file")
     })?;
+    if bytes.starts_with(&[0xff, 0xfe]) || bytes.starts_with(&[0xfe, 0xff]) {
+        return Err(LoadError::file(
+            "io.not-utf8",
+            path,
+            "the file is UTF-16 (it starts with a UTF-16 byte-order mark), not UTF-8",
+        )
+        .with_help(format!(
+            "{what} files must be UTF-8; re-save the file as UTF-8 (for example with \
+             `iconv -f UTF-16 -t UTF-8`)"
+        )));
+    }
     match String::from_utf8(bytes) {
         Ok(text) => Ok(text
             .strip_prefix('\u{feff}')

@@ -109,11 +109,21 @@ fn read_base(
 
 pub(crate) fn toml_error(path: &Path, text: &str, e: &toml::de::Error) -> LoadError {
     // serde names Rust types ("expected i64"); say what a codebook author writes.
-    let message = e
-        .message()
-        .trim()
-        .replace("expected i64", "expected a whole number");
     let range = e.span().unwrap_or(0..0);
+    // The parser's message may run over several lines ("invalid array\nexpected `]`"), and
+    // is empty when the file ends where a value should be.
+    let message = match e.message().trim() {
+        "" if text[range.start.min(text.len())..].trim().is_empty() => {
+            "the file ends where a value should be; it may be truncated".to_string()
+        }
+        "" => "a value is missing or malformed here".to_string(),
+        m => m
+            .lines()
+            .map(str::trim)
+            .collect::<Vec<_>>()
+            .join("; ")
+            .replace("expected i64", "expected a whole number"),
+    };
     let mut help = None;
     for prefix in ["unknown field `", "unknown variant `"] {
         if let Some(rest) = message.strip_prefix(prefix) {

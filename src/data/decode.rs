@@ -24,13 +24,15 @@ pub(crate) enum StreamFault {
     Gzip(io::Error),
     #[error("a record is longer than {limit} bytes")]
     RecordTooLong { limit: u64 },
+    #[error("the file starts with a UTF-16 byte-order mark")]
+    Utf16,
 }
 
 impl StreamFault {
     pub(crate) fn into_io(self) -> io::Error {
         let kind = match &self {
             StreamFault::Gzip(e) => e.kind(),
-            StreamFault::RecordTooLong { .. } => io::ErrorKind::InvalidData,
+            StreamFault::RecordTooLong { .. } | StreamFault::Utf16 => io::ErrorKind::InvalidData,
         };
         io::Error::new(kind, self)
     }
@@ -58,6 +60,13 @@ pub(crate) fn decoded_stream(
     } else {
         Box::new(peeked)
     };
+    // No declared encoding reads UTF-16: every other byte would be NUL and the header would
+    // match no column. Stop with a message that says so rather than report every column.
+    let uncompressed = Prefixed::new(uncompressed, 2)?;
+    if matches!(uncompressed.prefix(), [0xff, 0xfe] | [0xfe, 0xff]) {
+        return Err(StreamFault::Utf16.into_io());
+    }
+    let uncompressed: Box<dyn Read + Send> = Box::new(uncompressed);
     let utf8: Box<dyn Read + Send> = match encoding {
         Encoding::Utf8 => uncompressed,
         Encoding::Latin1 => Box::new(Transcoder::new(uncompressed, Decoder::Latin1)),
@@ -315,6 +324,19 @@ mod tests {
             out.push(byte[0]);
         }
         assert_eq!(String::from_utf8(out).unwrap(), "é".repeat(input.len()));
+    }
+
+    #[test]
+    fn utf16_is_refused_in_every_encoding() {
+        for encoding in [Encoding::Utf8, Encoding::Latin1, Encoding::Windows1252] {
+            for bom in [[0xff, 0xfe], [0xfe, 0xff]] {
+                let raw: Box<dyn Read + Send> = Box::new(io::Cursor::new(bom.to_vec()));
+                let err = decoded_stream(raw, encoding, ByteCounter::default())
+                    .err()
+                    .expect("UTF-16 is refused");
+                assert!(err.to_string().contains("UTF-16"), "{err}");
+            }
+        }
     }
 
     #[test]

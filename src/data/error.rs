@@ -70,6 +70,13 @@ pub enum DataError {
         limit: u64,
     },
 
+    #[error("{path} is UTF-16 text, which concord does not read")]
+    #[diagnostic(
+        code(concord::data::utf16),
+        help("re-save the file as UTF-8 (for example with `iconv -f UTF-16 -t UTF-8`), or as the encoding the codebook's [file] table declares")
+    )]
+    Utf16 { path: String },
+
     #[error("{path}: cannot read with this layout: {message}")]
     #[diagnostic(
         code(concord::data::layout),
@@ -87,6 +94,7 @@ impl DataError {
             .get_ref()
             .and_then(|inner| inner.downcast_ref::<StreamFault>());
         match fault {
+            Some(StreamFault::Utf16) => DataError::Utf16 { path },
             Some(StreamFault::RecordTooLong { limit }) => DataError::RecordTooLong {
                 path,
                 line,

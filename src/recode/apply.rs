@@ -29,6 +29,52 @@ pub enum ApplyError {
     Codebook(Vec<Diagnostic>),
     Data(DataError),
     Write(std::io::Error),
+    /// The data file has no column for these codebook variables the recodes read.
+    ColumnsMissing {
+        data: String,
+        names: Vec<String>,
+    },
+}
+
+/// Fail when the data has no column for a codebook variable the recodes read (a `from`, a
+/// `when`, an `expr` or a quantile weight): every derived value would silently be missing.
+fn require_columns(
+    codebook: &Codebook,
+    plan: &Plan,
+    check: &CheckPlan,
+    data: &str,
+) -> Result<(), ApplyError> {
+    let mut read: Vec<usize> = Vec::new();
+    for d in &plan.derives {
+        if let Some(SourceRef::Codebook(i)) = d.source {
+            read.push(i);
+        }
+        if let Some(w) = d.quantiles.as_ref().and_then(|q| q.weight) {
+            read.push(w);
+        }
+        if let Some(c) = &d.when {
+            read.extend_from_slice(c.variables());
+        }
+        if let Rule::Expr(c) = &d.rule {
+            read.extend_from_slice(c.variables());
+        }
+    }
+    read.retain(|&v| v < codebook.variables.len());
+    read.sort_unstable();
+    read.dedup();
+    let names: Vec<String> = read
+        .into_iter()
+        .filter(|&v| check.columns[v].field.is_none())
+        .map(|v| codebook.variables[v].name.clone())
+        .collect();
+    if names.is_empty() {
+        Ok(())
+    } else {
+        Err(ApplyError::ColumnsMissing {
+            data: data.to_string(),
+            names,
+        })
+    }
 }
 
 impl From<DataError> for ApplyError {
@@ -199,6 +245,7 @@ pub fn cut_quantiles(
 ) -> Result<Vec<u64>, ApplyError> {
     let header = source.headers().map(<[String]>::to_vec);
     let check = check_plan::compile(codebook, header.as_deref()).map_err(ApplyError::Codebook)?;
+    require_columns(codebook, plan, &check, source.name())?;
     let mut values: Vec<Vec<(f64, f64)>> = vec![Vec::new(); plan.derives.len()];
     let mut excluded = vec![0u64; plan.derives.len()];
     let mut cells = vec![Cell::Blank; codebook.variables.len()];
@@ -368,6 +415,7 @@ pub fn apply(
 ) -> Result<Applied, ApplyError> {
     let header = source.headers().map(<[String]>::to_vec);
     let check = check_plan::compile(codebook, header.as_deref()).map_err(ApplyError::Codebook)?;
+    require_columns(codebook, plan, &check, source.name())?;
     let sources: Vec<Option<&Variable>> = plan
         .derives
         .iter()

@@ -48,13 +48,22 @@ pub struct Request {
 /// rule in statistical disclosure control; local rules may differ.
 pub const DEFAULT_MIN_CELL: u64 = 10;
 
+/// "a" or "an" before a kind's name.
+fn article(kind: Kind) -> &'static str {
+    if kind.name().starts_with(['a', 'e', 'i', 'o', 'u']) {
+        "an"
+    } else {
+        "a"
+    }
+}
+
 /// Why a table could not be made.
 #[derive(Debug, thiserror::Error, miette::Diagnostic)]
 pub enum TallyError {
     #[error("the codebook has no variable `{name}`{}", suggestion.as_ref().map(|s| format!("; did you mean `{s}`?")).unwrap_or_default())]
     #[diagnostic(
         code(concord::tally::unknown_variable),
-        help("the {role} must be a variable listed in the codebook")
+        help("the {role} must be named exactly as in the codebook (names are case-sensitive)")
     )]
     UnknownVariable {
         name: String,
@@ -62,14 +71,14 @@ pub enum TallyError {
         suggestion: Option<String>,
     },
 
-    #[error("`{name}` is a {kind} variable; tally makes tables of categorical, ordinal and numeric variables")]
+    #[error("`{name}` is {} {kind} variable; tally makes tables of categorical, ordinal and numeric variables", article(*.kind))]
     #[diagnostic(
         code(concord::tally::not_tabulable),
         help("derive a coded or numeric variable from it with a recode first")
     )]
     NotTabulable { name: String, kind: Kind },
 
-    #[error("the weight `{name}` is a {kind} variable, not a numeric one")]
+    #[error("the weight `{name}` is {} {kind} variable, not a numeric one", article(*.kind))]
     #[diagnostic(
         code(concord::tally::weight_not_numeric),
         help("name a numeric weight with --weight, or use --unweighted")
@@ -168,7 +177,7 @@ pub fn tally(
         if plan.columns[v].field.is_none() {
             return Err(TallyError::ColumnMissing {
                 name: codebook.variables[v].name.clone(),
-                data: request.data_name.clone(),
+                data: source.name().to_string(),
             });
         }
     }
