@@ -286,6 +286,13 @@ fn derive_first(
             eprintln!("concord: cannot write a temporary file: {e}");
             Outcome::CouldNotRun
         }
+        apply::ApplyError::ColumnsMissing { data, names } => {
+            eprintln!(
+                "concord: {data} has no column for {}, which the recodes read; nothing was written",
+                names.join(", ")
+            );
+            Outcome::CouldNotRun
+        }
     };
     if plan.needs_first_pass() {
         if data.as_os_str() == "-" {
