@@ -5,9 +5,11 @@ use std::path::PathBuf;
 
 use clap::ValueEnum;
 
-use super::common::{could_not_run, emit, stderr_style, stdout_style, FailOn, Outcome};
+use super::common::{
+    could_not_run, emit, load_linted, stderr_style, stdout_style, FailOn, Outcome,
+};
 use crate::check::{self, CheckError};
-use crate::codebook::{self, model::Encoding};
+use crate::codebook::model::Encoding;
 use crate::report;
 
 #[derive(clap::Args)]
@@ -65,21 +67,15 @@ enum EncodingArg {
 }
 
 pub fn run(args: Args) -> Outcome {
-    let loaded = match codebook::load_with(
+    let mut codebook = match load_linted(
         &args.codebook,
-        &codebook::Options {
-            file_id: args.file_id.clone(),
-        },
+        args.file_id.clone(),
+        "checking data",
+        args.quiet,
     ) {
-        Ok(l) => l,
-        Err(e) => return could_not_run(e),
+        Ok(c) => c,
+        Err(o) => return o,
     };
-    let mut diagnostics = loaded.problems;
-    diagnostics.extend(codebook::lint::lint(&loaded.codebook));
-    let mut codebook = loaded.codebook;
-    if refuse_on_lint_errors(&diagnostics, &codebook.sources, &args) {
-        return Outcome::CouldNotRun;
-    }
     if let Some(d) = &args.delimiter {
         let d = if d == "\\t" || d == "tab" {
             "\t"
@@ -170,31 +166,6 @@ pub fn run(args: Args) -> Outcome {
     } else {
         Outcome::Failed
     }
-}
-
-/// A codebook with lint errors is not checked against: its findings would mislead.
-fn refuse_on_lint_errors(
-    diagnostics: &[crate::diagnostic::Diagnostic],
-    sources: &[std::sync::Arc<crate::codebook::model::SourceFile>],
-    args: &Args,
-) -> bool {
-    use crate::codebook::model::Severity;
-    if !diagnostics.iter().any(|d| d.severity == Severity::Error) {
-        return false;
-    }
-    if !args.quiet {
-        for d in diagnostics.iter().filter(|d| d.severity == Severity::Error) {
-            eprint!(
-                "{}",
-                report::render_miette(&d.to_report(sources), stderr_style())
-            );
-        }
-        eprintln!(
-            "concord: the codebook {} has lint errors; fix them before checking data (see `concord lint`)",
-            args.codebook.display()
-        );
-    }
-    true
 }
 
 /// A progress bar on a terminal for files over a few megabytes; never in pipes or CI.

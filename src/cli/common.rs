@@ -99,3 +99,39 @@ pub fn emit(text: &str, path: Option<&Path>, inputs: &[&Path]) -> Result<(), Out
         }
     }
 }
+
+/// Load a codebook for a command that reads data. A codebook with lint errors is refused
+/// (exit 2) with its diagnostics: its findings, extracts or tables would mislead. `purpose`
+/// completes "fix them before ...".
+pub fn load_linted(
+    path: &Path,
+    file_id: Option<String>,
+    purpose: &str,
+    quiet: bool,
+) -> Result<crate::codebook::model::Codebook, Outcome> {
+    let loaded = crate::codebook::load_with(path, &crate::codebook::Options { file_id })
+        .map_err(could_not_run)?;
+    let mut diagnostics = loaded.problems;
+    diagnostics.extend(crate::codebook::lint::lint(&loaded.codebook));
+    let codebook = loaded.codebook;
+    let errors: Vec<_> = diagnostics
+        .iter()
+        .filter(|d| d.severity == Severity::Error)
+        .collect();
+    if errors.is_empty() {
+        return Ok(codebook);
+    }
+    if !quiet {
+        for d in errors {
+            eprint!(
+                "{}",
+                crate::report::render_miette(&d.to_report(&codebook.sources), stderr_style())
+            );
+        }
+        eprintln!(
+            "concord: the codebook {} has lint errors; fix them before {purpose} (see `concord lint`)",
+            path.display()
+        );
+    }
+    Err(Outcome::CouldNotRun)
+}

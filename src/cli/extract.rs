@@ -5,9 +5,9 @@ use std::path::{Path, PathBuf};
 use clap::builder::NonEmptyStringValueParser;
 use clap::ValueEnum;
 
-use super::common::{could_not_run, stderr_style, Outcome};
+use super::common::{could_not_run, load_linted, stderr_style, Outcome};
 use crate::check::{self, plan};
-use crate::codebook::{self, conditions, model::ConditionText, model::Severity};
+use crate::codebook::{conditions, model::ConditionText, model::Severity};
 use crate::extract::{self, CodeStyle, ExtractError};
 use crate::output::{refuse_input, AtomicFile};
 use crate::report;
@@ -66,35 +66,11 @@ fn sidecar_path(out: &Path) -> PathBuf {
 }
 
 pub fn run(args: Args) -> Outcome {
-    let loaded = match codebook::load_with(
-        &args.codebook,
-        &codebook::Options {
-            file_id: args.file_id.clone(),
-        },
-    ) {
-        Ok(l) => l,
-        Err(e) => return could_not_run(e),
+    let mut codebook = match load_linted(&args.codebook, args.file_id.clone(), "extracting", false)
+    {
+        Ok(c) => c,
+        Err(o) => return o,
     };
-    let mut diagnostics = loaded.problems;
-    diagnostics.extend(codebook::lint::lint(&loaded.codebook));
-    let mut codebook = loaded.codebook;
-    let errors: Vec<_> = diagnostics
-        .iter()
-        .filter(|d| d.severity == Severity::Error)
-        .collect();
-    if !errors.is_empty() {
-        for d in errors {
-            eprint!(
-                "{}",
-                report::render_miette(&d.to_report(&codebook.sources), stderr_style())
-            );
-        }
-        eprintln!(
-            "concord: the codebook {} has lint errors; fix them before extracting (see `concord lint`)",
-            args.codebook.display()
-        );
-        return Outcome::CouldNotRun;
-    }
     let sidecar_out = args
         .codebook_out
         .clone()

@@ -5,8 +5,7 @@ use std::path::PathBuf;
 use clap::builder::NonEmptyStringValueParser;
 use clap::ValueEnum;
 
-use super::common::{could_not_run, emit, stderr_style, Outcome};
-use crate::codebook::{self, model::Severity};
+use super::common::{could_not_run, emit, load_linted, stderr_style, Outcome};
 use crate::report;
 use crate::tables::{self, render, Request, TallyError, WeightChoice};
 
@@ -72,35 +71,10 @@ pub fn run(args: Args) -> Outcome {
             return could_not_run(e);
         }
     }
-    let loaded = match codebook::load_with(
-        &args.codebook,
-        &codebook::Options {
-            file_id: args.file_id.clone(),
-        },
-    ) {
-        Ok(l) => l,
-        Err(e) => return could_not_run(e),
+    let codebook = match load_linted(&args.codebook, args.file_id.clone(), "making tables", false) {
+        Ok(c) => c,
+        Err(o) => return o,
     };
-    let mut diagnostics = loaded.problems;
-    diagnostics.extend(codebook::lint::lint(&loaded.codebook));
-    let codebook = loaded.codebook;
-    let errors: Vec<_> = diagnostics
-        .iter()
-        .filter(|d| d.severity == Severity::Error)
-        .collect();
-    if !errors.is_empty() {
-        for d in errors {
-            eprint!(
-                "{}",
-                report::render_miette(&d.to_report(&codebook.sources), stderr_style())
-            );
-        }
-        eprintln!(
-            "concord: the codebook {} has lint errors; fix them before making tables (see `concord lint`)",
-            args.codebook.display()
-        );
-        return Outcome::CouldNotRun;
-    }
     let request = Request {
         variable: args.variable.clone(),
         by: args.by.clone(),
