@@ -14,10 +14,13 @@ use crate::report::{self, recode as render};
 
 #[derive(clap::Args)]
 pub struct Args {
-    /// The codebook file (native TOML).
+    /// The codebook file: native TOML or DDI Codebook XML.
     codebook: PathBuf,
     /// The recode file (TOML, `[[derive]]` entries).
     recodes: PathBuf,
+    /// The DDI fileDscr to describe, when a DDI codebook has several.
+    #[arg(long, value_name = "ID")]
+    file_id: Option<String>,
     /// A data file to apply the recodes to; without it the recodes are only validated.
     data: Option<PathBuf>,
     /// Where to write the data with the derived columns (CSV); required with DATA.
@@ -74,7 +77,12 @@ fn print_diagnostics(ds: &[&Diagnostic], sources: &[std::sync::Arc<codebook::mod
 }
 
 pub fn run(args: Args) -> Outcome {
-    let loaded = match codebook::load(&args.codebook) {
+    let loaded = match codebook::load_with(
+        &args.codebook,
+        &codebook::Options {
+            file_id: args.file_id.clone(),
+        },
+    ) {
         Ok(l) => l,
         Err(e) => return could_not_run(e),
     };
