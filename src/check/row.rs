@@ -4,7 +4,7 @@
 //! same rule: a valid cell gives its value (its number, or its trimmed text), anything else
 //! (blank, missing code, value finding, absent column) is missing.
 
-use super::cell::{Cell, Seen};
+use super::cell::{trim, Cell, Seen};
 use super::plan::Plan;
 use crate::condition::{Row, Value};
 use crate::data::Record;
@@ -25,7 +25,7 @@ impl Row for CellRow<'_> {
                     .field
                     .and_then(|f| self.record.field(f))
                 {
-                    Some(t) => Value::Text(t.trim()),
+                    Some(t) => Value::Text(trim(t)),
                     None => Value::Missing,
                 }
             }

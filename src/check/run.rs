@@ -12,6 +12,7 @@ use std::hash::{BuildHasherDefault, Hash, Hasher};
 use super::cell::{classify_counted, trim, Cell, Seen};
 use super::findings::{Example, Findings, Target};
 use super::plan::{ColumnPlan, Plan};
+use super::row::CellRow;
 use super::tally::Tally;
 use crate::codebook::model::{Codebook, MissingKind};
 use crate::condition::{Row, Tri, Value};
@@ -26,30 +27,6 @@ pub struct Pass {
 
 /// Called now and then with the bytes read so far, for a progress bar.
 pub type Progress<'a> = &'a mut dyn FnMut(u64);
-
-/// The values conditions see for the current row.
-struct RowView<'a> {
-    cells: &'a [Cell],
-    plan: &'a Plan,
-    record: &'a Record,
-}
-
-impl Row for RowView<'_> {
-    #[inline]
-    fn value(&self, var: usize) -> Value<'_> {
-        match self.cells[var] {
-            Cell::Valid(Seen::Number(n)) => Value::Number(n),
-            Cell::Valid(Seen::Text) => match self.plan.columns[var]
-                .field
-                .and_then(|f| self.record.field(f))
-            {
-                Some(t) => Value::Text(trim(t)),
-                None => Value::Missing,
-            },
-            _ => Value::Missing,
-        }
-    }
-}
 
 /// Hash-set keys are already hashes: pass them through.
 #[derive(Default)]
@@ -411,7 +388,7 @@ impl<'a> RowChecker<'a> {
                 None => (Cell::Missing(MissingKind::NotAscertained), None),
             };
         }
-        let view = RowView {
+        let view = CellRow {
             cells: &self.cells,
             plan,
             record,
@@ -562,7 +539,7 @@ fn case_of(plan: &Plan, record: &Record) -> Option<String> {
 }
 
 /// The values a failed check read, as `name=value` pairs.
-fn check_values(codebook: &Codebook, vars: &[usize], view: &RowView) -> String {
+fn check_values(codebook: &Codebook, vars: &[usize], view: &CellRow) -> String {
     vars.iter()
         .map(|&v| {
             let shown = match view.value(v) {
