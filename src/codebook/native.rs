@@ -782,25 +782,8 @@ impl Reader<'_> {
         bound
     }
 
-    /// Keep a condition's text, and its exact place when the TOML string is written
-    /// without escapes (so parse errors can point at the very character).
     fn condition(&self, s: Spanned<String>) -> ConditionText {
-        let span = s.span();
-        let text = s.into_inner();
-        let raw = &self.source.text[span.clone()];
-        let exact = ['"', '\''].iter().any(|q| {
-            raw.len() == text.len() + 2 && raw.starts_with(*q) && raw[1..raw.len() - 1] == text
-        });
-        let place = if exact {
-            Some(Place::new(0, span.start + 1..span.end - 1))
-        } else {
-            None
-        };
-        ConditionText {
-            text,
-            place: place.or(Some(Place::new(0, span))),
-            exact,
-        }
+        condition_text(0, &self.source.text, s)
     }
 
     fn check(&mut self, raw: Spanned<RawCheck>) -> Check {
@@ -821,4 +804,26 @@ impl Reader<'_> {
 
 fn first_line(text: &str) -> String {
     text.lines().last().unwrap_or(text).trim().to_string()
+}
+
+/// A condition's text from a TOML string, with its place in file `file`: exact (covering the
+/// condition's own characters, so a parse error points at the very character) when the
+/// string is written without escapes, else the whole string.
+pub(crate) fn condition_text(file: usize, source: &str, s: Spanned<String>) -> ConditionText {
+    let span = s.span();
+    let text = s.into_inner();
+    let raw = source.get(span.clone()).unwrap_or("");
+    let exact = ['"', '\''].iter().any(|q| {
+        raw.len() == text.len() + 2 && raw.starts_with(*q) && raw[1..raw.len() - 1] == text
+    });
+    let range = if exact {
+        span.start + 1..span.end - 1
+    } else {
+        span
+    };
+    ConditionText {
+        text,
+        place: Some(Place::new(file, range)),
+        exact,
+    }
 }

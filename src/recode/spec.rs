@@ -627,24 +627,7 @@ impl Reader<'_> {
         })
     }
 
-    /// Keep a condition's text, and its exact place when the TOML string has no escapes, so
-    /// errors can point at the very character.
     fn condition(&self, s: Spanned<String>) -> ConditionText {
-        let span = s.span();
-        let text = s.into_inner();
-        let raw = &self.source.text[span.clone()];
-        let exact = ['"', '\''].iter().any(|q| {
-            raw.len() == text.len() + 2 && raw.starts_with(*q) && raw[1..raw.len() - 1] == text
-        });
-        let range = if exact {
-            span.start + 1..span.end - 1
-        } else {
-            span
-        };
-        ConditionText {
-            text,
-            place: Some(Place::new(self.file, range)),
-            exact,
-        }
+        crate::codebook::native::condition_text(self.file, &self.source.text, s)
     }
 }
