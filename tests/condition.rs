@@ -785,3 +785,16 @@ fn hostile_nesting_is_an_error_not_a_crash() {
         let _ = compiled.eval(&[Value::Number(1.0)]);
     }
 }
+
+#[test]
+fn names_may_use_letters_of_any_script() {
+    // Codebooks name variables in their own language; the condition language reads them.
+    let names: &[(&str, VarType)] = &[("année", VarType::Number), ("région", VarType::Text)];
+    let compiled =
+        concord::condition::compile_condition_str("année >= 2 and région == \"Nord\"", &names)
+            .expect("non-ASCII names compile");
+    let row: &[Value<'_>] = &[Value::Number(3.0), Value::Text("Nord")];
+    assert_eq!(compiled.eval(&row), Tri::True);
+    // Other symbols are still not part of a name.
+    assert!(concord::condition::parse("année € 2").is_err());
+}

@@ -175,6 +175,13 @@ impl<'a> Lexer<'a> {
                 ))
             }
             (b'A'..=b'Z' | b'a'..=b'z' | b'_', _) => return Ok(self.word()),
+            _ if self.text[start..]
+                .chars()
+                .next()
+                .is_some_and(char::is_alphabetic) =>
+            {
+                return Ok(self.word())
+            }
             _ => {
                 let c = self.text[start..].chars().next().unwrap_or('\u{fffd}');
                 return Err(error(
@@ -191,13 +198,16 @@ impl<'a> Lexer<'a> {
         })
     }
 
+    /// A name or keyword: letters (any script, since codebooks name variables in their
+    /// own language), digits and underscores.
     fn word(&mut self) -> Token {
         let start = self.position;
-        while self
-            .peek_byte(0)
-            .is_some_and(|b| b.is_ascii_alphanumeric() || b == b'_')
-        {
-            self.position += 1;
+        while let Some(c) = self.text[self.position..].chars().next() {
+            if c.is_alphanumeric() || c == '_' {
+                self.position += c.len_utf8();
+            } else {
+                break;
+            }
         }
         let word = &self.text[start..self.position];
         let kind = match word {
