@@ -186,7 +186,18 @@ impl State {
         let references = std::mem::take(&mut self.references);
         for (target, span, what) in references {
             if !self.ids.contains(&target) {
-                let known: Vec<&str> = self.files.iter().filter_map(|f| f.id.as_deref()).collect();
+                let to_file = what.contains("files") || what.contains("fileid");
+                let (kind, known): (&str, Vec<&str>) = if to_file {
+                    (
+                        "file IDs",
+                        self.files.iter().filter_map(|f| f.id.as_deref()).collect(),
+                    )
+                } else {
+                    let mut all: Vec<&str> = self.ids.iter().map(String::as_str).collect();
+                    all.sort_unstable();
+                    all.truncate(10);
+                    ("IDs", all)
+                };
                 let d = Diagnostic::new(
                     "lint.ddi-broken-reference",
                     format!("{what} refers to the ID `{target}`, which no element has"),
@@ -198,7 +209,7 @@ impl State {
                 ) {
                     Some(n) => d.help(format!("did you mean `{n}`?")),
                     None if !known.is_empty() => {
-                        d.help(format!("file IDs in this document: {}", known.join(", ")))
+                        d.help(format!("{kind} in this document: {}", known.join(", ")))
                     }
                     None => d.help("correct the reference or give the target element this ID"),
                 };
