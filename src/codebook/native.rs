@@ -542,20 +542,10 @@ impl Reader<'_> {
     }
 
     fn code(&self, s: &Spanned<toml::Value>) -> Result<Code, LoadError> {
-        match s.get_ref() {
-            toml::Value::Integer(i) => Ok(Code::Number(*i as f64)),
-            toml::Value::Float(f) if f.is_finite() => Ok(Code::Number(*f)),
-            toml::Value::String(t) => Ok(Code::Text(t.trim().to_string())),
-            other => Err(self
-                .error_at(
-                    s,
-                    format!(
-                        "a code must be a number or a string, not {}",
-                        other.type_str()
-                    ),
-                )
-                .with_help("write `code = 1` or `code = \"A\"`")),
-        }
+        code_of(s.get_ref()).map_err(|message| {
+            self.error_at(s, message)
+                .with_help("write `code = 1` or `code = \"A\"`")
+        })
     }
 
     /// A variable entry; with `base`, the entry overrides only the keys it writes.
@@ -825,5 +815,19 @@ pub(crate) fn condition_text(file: usize, source: &str, s: Spanned<String>) -> C
         text,
         place: Some(Place::new(file, range)),
         exact,
+    }
+}
+
+/// A code as written in TOML: a number (integer or finite float) or a trimmed string; the
+/// error says what was written instead.
+pub(crate) fn code_of(value: &toml::Value) -> Result<Code, String> {
+    match value {
+        toml::Value::Integer(i) => Ok(Code::Number(*i as f64)),
+        toml::Value::Float(f) if f.is_finite() => Ok(Code::Number(*f)),
+        toml::Value::String(t) => Ok(Code::Text(t.trim().to_string())),
+        other => Err(format!(
+            "a code must be a number or a string, not {}",
+            other.type_str()
+        )),
     }
 }

@@ -290,20 +290,10 @@ impl Reader<'_> {
     }
 
     fn code(&self, s: &Spanned<toml::Value>) -> Result<Code, LoadError> {
-        match s.get_ref() {
-            toml::Value::Integer(i) => Ok(Code::Number(*i as f64)),
-            toml::Value::Float(f) if f.is_finite() => Ok(Code::Number(*f)),
-            toml::Value::String(t) => Ok(Code::Text(t.trim().to_string())),
-            other => Err(self
-                .error_at(
-                    s.span(),
-                    format!(
-                        "a code must be a number or a string, not {}",
-                        other.type_str()
-                    ),
-                )
-                .with_help("write `code = 1` or `code = \"A\"`")),
-        }
+        crate::codebook::native::code_of(s.get_ref()).map_err(|message| {
+            self.error_at(s.span(), message)
+                .with_help("write `code = 1` or `code = \"A\"`")
+        })
     }
 
     fn derive(&self, raw: Spanned<RawDerive>) -> Result<Derive, LoadError> {
