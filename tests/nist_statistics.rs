@@ -103,6 +103,62 @@ fn michelso_certified_values() {
     assert_rel("Michelso sd", r.sd().unwrap(), 0.0790105478190518, 1e-13);
 }
 
+/// Statistics of `values` computed in two parts (as two checking threads do) and merged.
+fn merged(values: &[f64], at: usize) -> Running {
+    let mut left = running(&values[..at]);
+    left.merge(&running(&values[at..]));
+    left
+}
+
+#[test]
+fn merged_parts_meet_the_certified_values_wherever_the_split() {
+    // The same NIST StRD certified values and tolerances as above, for every split point
+    // (including an empty part on either side).
+    let sets = [
+        (
+            "NumAcc3",
+            numacc(1000000.2, 1000000.1, 1000000.3),
+            1000000.2,
+            0.1,
+            1e-9,
+        ),
+        (
+            "NumAcc4",
+            numacc(10000000.2, 10000000.1, 10000000.3),
+            10000000.2,
+            0.1,
+            1e-7,
+        ),
+        (
+            "Michelso",
+            michelso(),
+            299.852400000000,
+            0.0790105478190518,
+            1e-13,
+        ),
+    ];
+    for (name, values, mean, sd, sd_tolerance) in sets {
+        for at in 0..=values.len() {
+            let r = merged(&values, at);
+            assert_eq!(r.count, values.len() as u64);
+            assert_rel(
+                &format!("{name} mean split at {at}"),
+                r.mean().unwrap(),
+                mean,
+                1e-15,
+            );
+            assert_rel(
+                &format!("{name} sd split at {at}"),
+                r.sd().unwrap(),
+                sd,
+                sd_tolerance,
+            );
+            let min = values.iter().copied().fold(f64::INFINITY, f64::min);
+            assert_eq!(r.min().unwrap(), min);
+        }
+    }
+}
+
 #[test]
 fn too_few_values_have_no_statistics() {
     let r = running(&[]);

@@ -22,6 +22,17 @@ pub enum ValueRule {
 }
 
 impl ValueRule {
+    /// Every rule, in discriminant order.
+    pub const ALL: [ValueRule; 7] = [
+        ValueRule::NotANumber,
+        ValueRule::BadDate,
+        ValueRule::UnlabelledCode,
+        ValueRule::OutOfRange,
+        ValueRule::TooManyDecimals,
+        ValueRule::PatternMismatch,
+        ValueRule::TooLong,
+    ];
+
     pub fn id(self) -> &'static str {
         match self {
             ValueRule::NotANumber => "value.not-a-number",

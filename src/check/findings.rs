@@ -80,6 +80,22 @@ impl Findings {
         }
     }
 
+    /// Add the findings of rows counted elsewhere: counts add up, and the examples kept are
+    /// the first by row of both (each side kept its own first ones, so none is lost).
+    pub fn merge(&mut self, other: Findings) {
+        let max = self.max_examples;
+        for theirs in other.list {
+            let f = self.entry(theirs.rule, theirs.target);
+            f.count += theirs.count;
+            f.examples.extend(theirs.examples);
+            f.examples.sort_by_key(|e| e.row);
+            f.examples.truncate(max);
+            if f.detail.is_none() {
+                f.detail = theirs.detail;
+            }
+        }
+    }
+
     /// A finding with a fixed count and detail (documented figures, case count).
     pub fn set(
         &mut self,

@@ -6,10 +6,14 @@
 //! [`report::CheckReport`] that renderers format. Nothing here prints.
 
 pub mod cell;
+pub mod checker;
+pub mod class;
 pub mod documented;
 pub mod findings;
+pub mod keys;
 pub mod plan;
 pub mod report;
+pub mod route;
 pub mod row;
 pub mod run;
 pub mod tally;
@@ -23,11 +27,15 @@ use crate::diagnostic::Diagnostic;
 
 pub struct Options {
     pub max_examples: usize,
+    pub threads: run::Threads,
 }
 
 impl Default for Options {
     fn default() -> Self {
-        Options { max_examples: 5 }
+        Options {
+            max_examples: 5,
+            threads: run::Threads::Auto,
+        }
     }
 }
 
@@ -53,7 +61,14 @@ pub fn check(
 ) -> Result<run::Pass, CheckError> {
     let header = source.headers().map(<[String]>::to_vec);
     let plan = plan::compile(codebook, header.as_deref()).map_err(CheckError::Codebook)?;
-    let mut pass = run::run(codebook, &plan, source, options.max_examples, progress)?;
+    let mut pass = run::run(
+        codebook,
+        &plan,
+        source,
+        options.max_examples,
+        options.threads,
+        progress,
+    )?;
     structure(codebook, &plan, &mut pass.findings, pass.rows);
     documented::compare(codebook, &pass.tallies, &mut pass.findings);
     Ok(pass)

@@ -8,6 +8,8 @@
 use regex::Regex;
 
 use super::cell::Parsed;
+use super::class::Quick;
+use super::route::Routes;
 
 use crate::codebook::conditions;
 use crate::codebook::model::{Code, Codebook, Kind, Layout, MissingKind, Range, Severity};
@@ -23,7 +25,7 @@ pub enum CodeMeaning {
 }
 
 /// Codes of one variable: a dense table for small non-negative integers, a list for the rest.
-#[derive(Debug, Default)]
+#[derive(Debug, Default, Clone)]
 pub struct CodeTable {
     dense: Vec<Option<CodeMeaning>>,
     other_numbers: Vec<(f64, CodeMeaning)>,
@@ -53,6 +55,16 @@ impl CodeTable {
 
     pub fn has_numbers(&self) -> bool {
         !self.dense.is_empty() || !self.other_numbers.is_empty()
+    }
+
+    /// Length of the dense table: integer codes below it are looked up by index.
+    pub fn dense_len(&self) -> usize {
+        self.dense.len()
+    }
+
+    /// Some code is a number that is not in the dense table (negative, fractional, large).
+    pub fn has_other_numbers(&self) -> bool {
+        !self.other_numbers.is_empty()
     }
 
     pub fn has_texts(&self) -> bool {
@@ -103,7 +115,7 @@ impl CodeTable {
 }
 
 /// How cells of one variable are read.
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub enum Parse {
     /// Categorical or ordinal: valid values are exactly the categories.
     Coded,
@@ -120,7 +132,7 @@ pub enum Parse {
     },
 }
 
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub struct ColumnPlan {
     /// Index of the variable in the codebook.
     pub var: usize,
@@ -139,9 +151,13 @@ pub struct ColumnPlan {
     /// Keep running statistics: only variables with documented mean, sd, min or max need
     /// them, and skipping the update elsewhere saves a division per cell.
     pub statistics: bool,
+    /// Classes of short whole numbers, filled once the rest of the plan is known.
+    pub quick: Quick,
+    /// Routing outcomes by universe value and cell tag, filled with `quick`.
+    pub routes: Routes,
 }
 
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub struct CheckPlan {
     pub name: String,
     pub assert: Compiled,
@@ -150,7 +166,7 @@ pub struct CheckPlan {
 }
 
 /// Column-level facts found while matching the header to the codebook.
-#[derive(Debug, Default)]
+#[derive(Debug, Default, Clone)]
 pub struct Structure {
     /// Codebook variables with no column.
     pub missing_columns: Vec<usize>,
@@ -160,7 +176,7 @@ pub struct Structure {
     pub duplicate_columns: Vec<(usize, String)>,
 }
 
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub struct Plan {
     /// One per codebook variable, in codebook order.
     pub columns: Vec<ColumnPlan>,
@@ -253,7 +269,12 @@ pub fn compile(codebook: &Codebook, header: Option<&[String]>) -> Result<Plan, V
             statistics: v.documented.is_some_and(|d| {
                 d.mean.is_some() || d.sd.is_some() || d.min.is_some() || d.max.is_some()
             }),
+            quick: Quick::default(),
+            routes: Routes::empty(),
         });
+        let col = columns.last_mut().expect("just pushed");
+        col.quick = Quick::build(col);
+        col.routes = Routes::build(col);
     }
     let mut checks = Vec::new();
     for c in &codebook.checks {

@@ -5,6 +5,7 @@
 //! (blank, missing code, value finding, absent column) is missing.
 
 use super::cell::{trim, Cell, Seen};
+use super::class::Class;
 use super::plan::Plan;
 use crate::condition::{Row, Value};
 use crate::data::Record;
@@ -29,6 +30,31 @@ impl Row for CellRow<'_> {
                     None => Value::Missing,
                 }
             }
+            _ => Value::Missing,
+        }
+    }
+}
+
+/// The same view over the packed classes of the check loop.
+pub struct ClassRow<'a> {
+    pub classes: &'a [Class],
+    pub numbers: &'a [f64],
+    pub plan: &'a Plan,
+    pub record: &'a Record,
+}
+
+impl Row for ClassRow<'_> {
+    #[inline]
+    fn value(&self, var: usize) -> Value<'_> {
+        match self.classes.get(var) {
+            Some(c) if c.is_number() => Value::Number(self.numbers[var]),
+            Some(c) if c.is_text() => match self.plan.columns[var]
+                .field
+                .and_then(|f| self.record.field(f))
+            {
+                Some(t) => Value::Text(trim(t)),
+                None => Value::Missing,
+            },
             _ => Value::Missing,
         }
     }

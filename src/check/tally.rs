@@ -81,6 +81,28 @@ impl Running {
         self.max = self.max.max(x);
     }
 
+    /// Combine with the statistics of another stream, as if its values had followed these
+    /// (Chan, Golub and LeVeque's pairwise update, with `other`'s mean moved to this
+    /// stream's shift first).
+    pub fn merge(&mut self, other: &Running) {
+        if other.count == 0 {
+            return;
+        }
+        if self.count == 0 {
+            *self = *other;
+            return;
+        }
+        let (na, nb) = (self.count as f64, other.count as f64);
+        let n = na + nb;
+        let other_mean = (other.shift - self.shift) + other.mean;
+        let delta = other_mean - self.mean;
+        self.mean += delta * (nb / n);
+        self.m2 += other.m2 + delta * delta * (na * nb / n);
+        self.count += other.count;
+        self.min = self.min.min(other.min);
+        self.max = self.max.max(other.max);
+    }
+
     pub fn mean(&self) -> Option<f64> {
         (self.count > 0).then_some(self.shift + self.mean)
     }

@@ -106,6 +106,7 @@ pub fn run(args: Args) -> Outcome {
     };
     let options = check::Options {
         max_examples: args.max_examples,
+        ..check::Options::default()
     };
     let bar = progress_bar(source.total_bytes());
     let mut tick = |bytes: u64| {

@@ -35,7 +35,7 @@ use std::path::Path;
 use std::sync::atomic::Ordering;
 
 pub use error::DataError;
-pub use record::{LengthProblem, Record};
+pub use record::{Fields, LengthProblem, Record};
 
 use decode::ByteCounter;
 use delimited::DelimitedReader;

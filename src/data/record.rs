@@ -102,8 +102,15 @@ impl Record {
     }
 
     /// All fields in order.
-    pub fn fields(&self) -> impl Iterator<Item = &str> {
-        (0..self.len()).map(|i| self.field(i).unwrap_or(""))
+    pub fn fields(&self) -> Fields<'_> {
+        Fields(match &self.storage {
+            Storage::Empty => FieldsInner::Empty,
+            Storage::Csv(record) => FieldsInner::Csv(record.iter()),
+            Storage::CsvLossy(_) | Storage::Line => FieldsInner::Text {
+                text: &self.text,
+                bounds: self.bounds.iter(),
+            },
+        })
     }
 
     /// 1-based data row number; the header row is not counted.
@@ -193,6 +200,35 @@ fn push_lossy(text: &mut String, bytes: &[u8]) {
         text.push_str(chunk.valid());
         if !chunk.invalid().is_empty() {
             text.push(char::REPLACEMENT_CHARACTER);
+        }
+    }
+}
+
+/// The fields of a [`Record`] in order, from [`Record::fields`]. Walking them in order is
+/// cheaper than asking for each by index.
+pub struct Fields<'a>(FieldsInner<'a>);
+
+enum FieldsInner<'a> {
+    Empty,
+    Csv(csv::StringRecordIter<'a>),
+    Text {
+        text: &'a str,
+        bounds: std::slice::Iter<'a, (usize, usize)>,
+    },
+}
+
+impl<'a> Iterator for Fields<'a> {
+    type Item = &'a str;
+
+    #[inline]
+    fn next(&mut self) -> Option<&'a str> {
+        match &mut self.0 {
+            FieldsInner::Empty => None,
+            FieldsInner::Csv(fields) => fields.next(),
+            FieldsInner::Text { text, bounds } => {
+                let &(start, end) = bounds.next()?;
+                Some(text.get(start..end).unwrap_or(""))
+            }
         }
     }
 }

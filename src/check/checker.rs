@@ -1,0 +1,382 @@
+//! Checking one record against the plan, and the counts that build up as records pass.
+//!
+//! Per row, cells are classified on their own (value rules) in one pass over the record's
+//! fields, and cells of variables without a universe are routed and counted straight away.
+//! Cells of routed variables wait until every cell is classified, because a universe reads
+//! other cells (and a cell with a value finding counts as missing there); then the checks
+//! run. Buffers are reused from row to row and nothing allocates unless a finding keeps an
+//! example.
+//!
+//! A [`RowChecker`] holds only what the rows add up to, so several can check parts of one
+//! file on different threads and be [merged](RowChecker::merge) afterwards. Keys are the
+//! exception: repeats depend on file order, so the caller classifies them ([`super::keys`])
+//! and hands the result in.
+
+use super::class::{classify_class, Class, TAGS};
+use super::findings::{Example, Findings, Target};
+use super::keys::{key_text, KeyStatus};
+use super::plan::Plan;
+use super::route::{
+    COUNTERS, FINDING, FINDING_RULES, GATE_UNKNOWN, INVALID, MISSING, SKIPPED, VALID,
+};
+use super::row::ClassRow;
+use super::run::Pass;
+use super::tally::{Running, Tally};
+use crate::codebook::model::{Codebook, Kind, MissingKind};
+use crate::condition::{Row, Tri, Value};
+use crate::data::Record;
+
+/// What the loop needs of one record field, kept together (a column's full plan is large,
+/// and reading it for every cell would touch a cache line per variable per row).
+#[derive(Clone, Copy)]
+struct FieldUse<'a> {
+    /// The column's table of short whole numbers.
+    quick: &'a [Class],
+    /// Packed outcomes by tag when the universe is true (the only case for a variable
+    /// without a universe).
+    routes: [u8; TAGS],
+    var: u32,
+    /// The field is not a codebook variable (or repeats a header name).
+    unused: bool,
+    /// The variable has a universe: route it after the whole row is classified.
+    routed: bool,
+    statistics: bool,
+    /// Where the variable's category counts start in `Counts::categories`.
+    categories: u32,
+}
+
+/// What the rows add up to, per variable.
+struct Counts {
+    counters: Vec<[u64; COUNTERS]>,
+    /// Every variable's category counts, one after another.
+    categories: Vec<u64>,
+    /// Where each variable's category counts start.
+    offsets: Vec<usize>,
+    stats: Vec<Running>,
+}
+
+pub struct RowChecker<'a> {
+    codebook: &'a Codebook,
+    plan: &'a Plan,
+    pub rows: u64,
+    findings: Findings,
+    counts: Counts,
+    /// Per variable: the class of its cell in the current row, and its number.
+    classes: Vec<Class>,
+    numbers: Vec<f64>,
+    /// Per record field.
+    fields: Vec<FieldUse<'a>>,
+    /// Variables with a universe and a column.
+    routed: Vec<usize>,
+    key_text: String,
+}
+
+impl<'a> RowChecker<'a> {
+    pub fn new(codebook: &'a Codebook, plan: &'a Plan, max_examples: usize) -> Self {
+        let mut offsets = Vec::with_capacity(plan.columns.len());
+        let mut total = 0;
+        for v in &codebook.variables {
+            offsets.push(total);
+            total += v.categories.len();
+        }
+        let unused = FieldUse {
+            quick: &[],
+            routes: [0; TAGS],
+            var: 0,
+            unused: true,
+            routed: false,
+            statistics: false,
+            categories: 0,
+        };
+        let mut fields = Vec::new();
+        for col in &plan.columns {
+            if let Some(f) = col.field {
+                if fields.len() <= f {
+                    fields.resize(f + 1, unused);
+                }
+                fields[f] = FieldUse {
+                    quick: col.quick.table(),
+                    routes: *col.routes.under(Tri::True),
+                    var: col.var as u32,
+                    unused: false,
+                    routed: col.universe.is_some(),
+                    statistics: col.statistics,
+                    categories: offsets[col.var] as u32,
+                };
+            }
+        }
+        let vars = plan.columns.len();
+        RowChecker {
+            codebook,
+            plan,
+            rows: 0,
+            findings: Findings::new(max_examples),
+            counts: Counts {
+                counters: vec![[0; COUNTERS]; vars],
+                categories: vec![0; total],
+                offsets,
+                stats: vec![Running::default(); vars],
+            },
+            // Absent columns keep this class: their cells are not ascertained.
+            classes: vec![Class::NOT_ASCERTAINED; vars],
+            numbers: vec![0.0; vars],
+            fields,
+            routed: plan
+                .columns
+                .iter()
+                .filter(|c| c.universe.is_some() && c.field.is_some())
+                .map(|c| c.var)
+                .collect(),
+            key_text: String::new(),
+        }
+    }
+
+    /// Check one record (already counted in `rows`) whose key is `key`.
+    pub fn check(&mut self, record: &Record, key: KeyStatus) {
+        let (codebook, plan) = (self.codebook, self.plan);
+        let row = record.row();
+        if record.invalid_utf8() {
+            self.findings
+                .add("structure.encoding", Target::File, || Example {
+                    row: Some(row),
+                    case: case_of(plan, record),
+                    value: None,
+                });
+        }
+        if let Some(detail) = ragged(plan, record) {
+            self.findings
+                .add("structure.row-length", Target::File, || Example {
+                    row: Some(row),
+                    case: case_of(plan, record),
+                    value: Some(detail),
+                });
+            return;
+        }
+
+        for (text, field) in record.fields().zip(&self.fields) {
+            if field.unused {
+                continue;
+            }
+            let var = field.var as usize;
+            let col = &plan.columns[var];
+            let mut number = 0.0;
+            let class = classify_class(field.quick, col, text, &mut number);
+            self.classes[var] = class;
+            self.numbers[var] = number;
+            if !field.routed {
+                let outcome = field.routes[class.tag()];
+                if outcome == VALID as u8 {
+                    self.counts.valid(field, class, number);
+                } else if outcome < FINDING {
+                    self.counts.counters[var][usize::from(outcome)] += 1;
+                } else {
+                    self.counts
+                        .finding(&mut self.findings, plan, var, outcome, record);
+                }
+            }
+        }
+        let view = ClassRow {
+            classes: &self.classes,
+            numbers: &self.numbers,
+            plan,
+            record,
+        };
+        for &var in &self.routed {
+            let col = &plan.columns[var];
+            let universe = col.universe.as_ref().map_or(Tri::True, |u| u.eval(&view));
+            let class = self.classes[var];
+            let outcome = col.routes.under(universe)[class.tag()];
+            if outcome == VALID as u8 {
+                let field = &self.fields[col.field.expect("routed variables have a column")];
+                self.counts.valid(field, class, self.numbers[var]);
+            } else if outcome < FINDING {
+                self.counts.counters[var][usize::from(outcome)] += 1;
+            } else {
+                self.counts
+                    .finding(&mut self.findings, plan, var, outcome, record);
+            }
+        }
+        for (i, check) in plan.checks.iter().enumerate() {
+            let applies = check.when.as_ref().map_or(Tri::True, |w| w.eval(&view));
+            if applies == Tri::True && check.assert.eval(&view) == Tri::False {
+                self.findings
+                    .add("consistency.failed", Target::Check(i), || Example {
+                        row: Some(row),
+                        case: case_of(plan, record),
+                        value: Some(check_values(codebook, check.assert.variables(), &view)),
+                    });
+            }
+        }
+        match key {
+            KeyStatus::None | KeyStatus::Fresh => {}
+            KeyStatus::Blank => {
+                key_text(plan, record, &mut self.key_text);
+                let text = &self.key_text;
+                self.findings
+                    .add("structure.id-blank", Target::Key, || Example {
+                        row: Some(row),
+                        case: None,
+                        value: Some(text.trim_end_matches('\u{1f}').replace('\u{1f}', "/")),
+                    });
+            }
+            KeyStatus::Repeat => {
+                self.findings
+                    .add("structure.id-duplicate", Target::Key, || Example {
+                        row: Some(row),
+                        case: case_of(plan, record),
+                        value: case_of(plan, record),
+                    });
+            }
+        }
+    }
+
+    /// Add what `other` counted (rows checked elsewhere) to this checker.
+    pub fn merge(&mut self, other: RowChecker) {
+        self.rows += other.rows;
+        self.findings.merge(other.findings);
+        let (mine, theirs) = (&mut self.counts, other.counts);
+        for (a, b) in mine.counters.iter_mut().zip(theirs.counters) {
+            for (x, y) in a.iter_mut().zip(b) {
+                *x += y;
+            }
+        }
+        for (x, y) in mine.categories.iter_mut().zip(theirs.categories) {
+            *x += y;
+        }
+        for (a, b) in mine.stats.iter_mut().zip(theirs.stats) {
+            a.merge(&b);
+        }
+    }
+
+    /// The counts as tallies, for the report.
+    pub fn finish(self) -> Pass {
+        let Counts {
+            counters,
+            categories,
+            offsets,
+            stats,
+        } = self.counts;
+        let tallies = counters
+            .into_iter()
+            .zip(stats)
+            .enumerate()
+            .map(|(var, (c, stats))| {
+                let start = offsets[var];
+                let end = offsets.get(var + 1).copied().unwrap_or(categories.len());
+                let categories = categories[start..end].to_vec();
+                let mut missing = [0; 5];
+                for (k, slot) in missing.iter_mut().enumerate().skip(1) {
+                    *slot = c[MISSING + k];
+                }
+                Tally {
+                    valid: c[VALID],
+                    skipped: c[SKIPPED],
+                    gate_unknown: c[GATE_UNKNOWN],
+                    missing,
+                    invalid: c[INVALID],
+                    categories,
+                    stats,
+                }
+            })
+            .collect();
+        Pass {
+            rows: self.rows,
+            findings: self.findings,
+            tallies,
+        }
+    }
+}
+
+impl Counts {
+    /// Count a valid cell.
+    #[inline(always)]
+    fn valid(&mut self, field: &FieldUse, class: Class, number: f64) {
+        let var = field.var as usize;
+        self.counters[var][VALID] += 1;
+        if field.statistics && class.is_number() {
+            self.stats[var].push(number);
+        }
+        if let Some(c) = class.category() {
+            self.categories[field.categories as usize + c as usize] += 1;
+        }
+    }
+
+    /// Count a cell of `var` that is a finding (`outcome` packed, at least [`FINDING`]).
+    #[cold]
+    #[inline(never)]
+    fn finding(
+        &mut self,
+        findings: &mut Findings,
+        plan: &Plan,
+        var: usize,
+        outcome: u8,
+        record: &Record,
+    ) {
+        self.counters[var][INVALID] += 1;
+        let rule = FINDING_RULES[usize::from(outcome - FINDING)];
+        findings.add(rule, Target::Variable(var), || Example {
+            row: Some(record.row()),
+            case: case_of(plan, record),
+            value: plan.columns[var]
+                .field
+                .and_then(|f| record.field(f))
+                .map(str::to_string),
+        });
+    }
+}
+
+/// A row-length problem of `record`, described.
+fn ragged(plan: &Plan, record: &Record) -> Option<String> {
+    match plan.expected_fields {
+        Some(n) => (record.len() != n).then(|| {
+            let got = record.len();
+            format!(
+                "{got} field{}, expected {n}",
+                if got == 1 { "" } else { "s" }
+            )
+        }),
+        None => record
+            .length_problem()
+            .map(|p| format!("record length {}, expected {}", p.actual, p.expected)),
+    }
+}
+
+/// The case id of a row for examples: the key values joined by "/".
+fn case_of(plan: &Plan, record: &Record) -> Option<String> {
+    if plan.key.is_empty() {
+        return None;
+    }
+    let parts: Vec<&str> = plan
+        .key
+        .iter()
+        .map(|&k| {
+            plan.columns[k]
+                .field
+                .and_then(|f| record.field(f))
+                .unwrap_or("")
+                .trim()
+        })
+        .collect();
+    Some(parts.join("/"))
+}
+
+/// The values a failed check read, as `name=value` pairs.
+fn check_values(codebook: &Codebook, vars: &[usize], view: &dyn Row) -> String {
+    vars.iter()
+        .map(|&v| {
+            let shown = match view.value(v) {
+                Value::Number(n) if codebook.variables[v].kind == Kind::Date => {
+                    crate::codebook::date::format_iso_date(n as i32)
+                }
+                Value::Number(n) => crate::codebook::model::format_number(n),
+                Value::Text(t) => format!("{t:?}"),
+                Value::Missing => "missing".to_string(),
+            };
+            format!("{}={shown}", codebook.variables[v].name)
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+// `MissingKind` indexes the counters: skipped must stay first, counted apart.
+const _: () = assert!(MissingKind::Skipped as usize == 0);
