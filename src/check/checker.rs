@@ -40,6 +40,9 @@ struct FieldUse<'a> {
     unused: bool,
     /// The variable has a universe: route it after the whole row is classified.
     routed: bool,
+    /// A universe or check reads the variable (or it has a universe): keep its class for
+    /// the rest of the row.
+    kept: bool,
     statistics: bool,
     /// Where the variable's category counts start in `Counts::categories`.
     categories: u32,
@@ -85,9 +88,21 @@ impl<'a> RowChecker<'a> {
             var: 0,
             unused: true,
             routed: false,
+            kept: false,
             statistics: false,
             categories: 0,
         };
+        let mut read = vec![false; plan.columns.len()];
+        let conditions = plan.columns.iter().filter_map(|c| c.universe.as_ref());
+        let checks = plan
+            .checks
+            .iter()
+            .flat_map(|c| std::iter::once(&c.assert).chain(&c.when));
+        for condition in conditions.chain(checks) {
+            for &v in condition.variables() {
+                read[v] = true;
+            }
+        }
         let mut fields = Vec::new();
         for col in &plan.columns {
             if let Some(f) = col.field {
@@ -100,6 +115,7 @@ impl<'a> RowChecker<'a> {
                     var: col.var as u32,
                     unused: false,
                     routed: col.universe.is_some(),
+                    kept: read[col.var] || col.universe.is_some(),
                     statistics: col.statistics,
                     categories: offsets[col.var] as u32,
                 };
@@ -161,8 +177,10 @@ impl<'a> RowChecker<'a> {
             let col = &plan.columns[var];
             let mut number = 0.0;
             let class = classify_class(field.quick, col, text, &mut number);
-            self.classes[var] = class;
-            self.numbers[var] = number;
+            if field.kept {
+                self.classes[var] = class;
+                self.numbers[var] = number;
+            }
             if !field.routed {
                 let outcome = field.routes[class.tag()];
                 if outcome == VALID as u8 {
