@@ -243,6 +243,12 @@ pub const RECODE_RULES: &[Rule] = &[
         "Quantile cut points are computed in a first pass over the data, before any derived value \
          exists. Their `from`, `weight` and `when` must read codebook variables, or variables \
          derived without quantiles."),
+    rule("recode.computed-missing-code", Error, "an `expr` result equals a missing code of the derived variable (data only)",
+        "A value computed by `expr` is the same number as one of the derived variable's missing \
+         codes: a code carried over from an input, or one given in its `missing` entries. Anyone \
+         reading the output with its codebook (`concord check` included) would take that computed \
+         value for a missing value. Give the derived variable missing codes its expression cannot \
+         reach, for example negative codes for a quantity that cannot be negative."),
     rule("recode.invalid-source", Warning, "source cells with value findings (data only)",
         "Some source cells break their codebook (a value finding of `concord check`); their derived \
          value is missing of kind `other`. Run `concord check` on the data and fix it first."),

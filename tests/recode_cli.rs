@@ -282,6 +282,28 @@ fn division_by_zero_is_missing_of_kind_other_and_counted() {
     );
 }
 
+#[test]
+fn a_computed_value_equal_to_a_missing_code_fails_the_gate() {
+    let (code, output, _, out, _dir) = apply_fixture("computed-missing-code.toml", "division.csv");
+    assert_eq!(code, 1, "{output}");
+    assert!(output.contains("recode.computed-missing-code"), "{output}");
+    assert!(
+        output
+            .contains("1 computed value of `per_a` equals its missing code 5, first on data row 1"),
+        "{output}"
+    );
+    // The data is still written, as computed: 10/2, then 12/0 and 0/0 (other), a refused
+    // input carried over, 8/4.
+    let (header, rows) = read_csv(&out);
+    let per_a = column(&header, "per_a");
+    let cells: Vec<&str> = rows.iter().map(|r| r[per_a].as_str()).collect();
+    assert_eq!(cells, ["5", "5", "5", "-7", "2"]);
+    // Codes the expression cannot reach: no finding.
+    let (code, output, _, _, _dir) = apply_fixture("division.toml", "division.csv");
+    assert_eq!(code, 0, "{output}");
+    assert!(!output.contains("recode.computed-missing-code"), "{output}");
+}
+
 // ---- numpy as an outside reference ----
 
 /// A deterministic sample: a 64-bit linear congruential generator (Knuth's MMIX constants),

@@ -98,7 +98,8 @@ pub enum Columns {
 pub struct Applied {
     pub rows: u64,
     pub audits: Vec<AuditTable>,
-    /// `recode.empty-output` and `recode.invalid-source` warnings.
+    /// `recode.empty-output` and `recode.invalid-source` warnings, and
+    /// `recode.computed-missing-code` errors.
     pub diagnostics: Vec<Diagnostic>,
 }
 
@@ -460,6 +461,23 @@ pub fn apply(
     let mut record = Record::new();
     let mut fields: Vec<String> = Vec::new();
     let mut rows = 0u64;
+    // The numeric missing codes of each derived variable, against which computed values
+    // are compared, and what was found: (count, first row, the code).
+    let missing_numbers: Vec<Vec<f64>> = plan
+        .derives
+        .iter()
+        .map(|d| {
+            d.output
+                .missing
+                .iter()
+                .filter_map(|m| match m.code {
+                    Code::Number(n) => Some(n),
+                    Code::Text(_) => None,
+                })
+                .collect()
+        })
+        .collect();
+    let mut clashes: Vec<(u64, u64, f64)> = vec![(0, 0, 0.0); plan.derives.len()];
     while source.read_record(&mut record)? {
         rows += 1;
         classify_row(&check, &record, &mut cells);
@@ -474,6 +492,15 @@ pub fn apply(
             };
             let (class, value) = derive_one(plan, d, &row);
             counters[j].add(class, &value);
+            if let Derived::Number(n) = value {
+                if missing_numbers[j].contains(&n) {
+                    let clash = &mut clashes[j];
+                    if clash.0 == 0 {
+                        *clash = (0, rows, n);
+                    }
+                    clash.0 += 1;
+                }
+            }
             derived.push(value);
         }
         fields.clear();
@@ -512,6 +539,24 @@ pub fn apply(
                     .help("check the band limits against the data's units and spread"),
                 );
             }
+        }
+        let (clash, first_row, code) = clashes[j];
+        if clash > 0 {
+            diagnostics.push(
+                Diagnostic::new(
+                    "recode.computed-missing-code",
+                    format!(
+                        "{clash} computed value{} of `{}` equal{} its missing code {}, first on data row {first_row}; read back with the output codebook, {} would count as missing",
+                        if clash == 1 { "" } else { "s" },
+                        d.name,
+                        if clash == 1 { "s" } else { "" },
+                        format_number(code),
+                        if clash == 1 { "it" } else { "they" },
+                    ),
+                )
+                .at(place, "computes a value that is also a missing code")
+                .help("give the derived variable missing codes its expression cannot reach (`missing` entries with `code`), for example negative ones for a quantity"),
+            );
         }
         let invalid = counters[j].invalid();
         if invalid > 0 {
