@@ -29,6 +29,16 @@ pub enum OutputError {
         help("check that the folder exists and that you may write there")
     )]
     Io { path: PathBuf, cause: io::Error },
+    #[error("cannot move `{path}` into place ({cause}); already written: {}", done.iter().map(|p| format!("`{}`", p.display())).collect::<Vec<_>>().join(", "))]
+    #[diagnostic(
+        code(concord::output::partial_set),
+        help("the outputs of this run do not belong together: delete the ones already written and run again")
+    )]
+    PartialSet {
+        path: PathBuf,
+        cause: io::Error,
+        done: Vec<PathBuf>,
+    },
 }
 
 /// The folder `path` is written in.
@@ -112,6 +122,42 @@ impl AtomicFile {
     }
 }
 
+/// Commit outputs that belong together (a data file and its codebook, say). Everything that
+/// can fail on the way (flushing and syncing each file to disk) is done for all of them
+/// before the first is renamed into place, so a full disk leaves none of them. Only a
+/// failed rename can still leave some in place, and the error then names them.
+pub fn commit_all(files: Vec<AtomicFile>) -> Result<(), OutputError> {
+    let mut files = files;
+    for f in &mut files {
+        let path = f.path.clone();
+        let file = f.tmp.as_file_mut();
+        file.flush()
+            .and_then(|()| file.sync_all())
+            .map_err(|cause| OutputError::Io { path, cause })?;
+    }
+    let mut done = Vec::new();
+    for f in files {
+        let path = f.path.clone();
+        match f.tmp.persist(&path) {
+            Ok(_) => done.push(path),
+            Err(e) if done.is_empty() => {
+                return Err(OutputError::Io {
+                    path,
+                    cause: e.error,
+                })
+            }
+            Err(e) => {
+                return Err(OutputError::PartialSet {
+                    path,
+                    cause: e.error,
+                    done,
+                })
+            }
+        }
+    }
+    Ok(())
+}
+
 /// Write a file atomically: `write` fills a temporary file that is renamed to `path` only
 /// when it returns Ok.
 pub fn write_atomic<F>(path: &Path, write: F) -> Result<(), OutputError>
@@ -135,6 +181,57 @@ where
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn written(path: &Path, text: &str) -> AtomicFile {
+        let mut f = AtomicFile::create(path).unwrap();
+        f.file().write_all(text.as_bytes()).unwrap();
+        f
+    }
+
+    /// Files left in `dir` (outputs and temporary files alike).
+    fn entries(dir: &Path) -> Vec<String> {
+        let mut names: Vec<String> = std::fs::read_dir(dir)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        names
+    }
+
+    #[test]
+    fn a_set_of_outputs_appears_together() {
+        let dir = tempfile::tempdir().unwrap();
+        let (a, b) = (dir.path().join("a.csv"), dir.path().join("a.toml"));
+        let set = vec![written(&a, "data"), written(&b, "codebook")];
+        assert_eq!(entries(dir.path()).len(), 2, "two temporary files");
+        commit_all(set).unwrap();
+        assert_eq!(entries(dir.path()), ["a.csv", "a.toml"]);
+        assert_eq!(std::fs::read_to_string(&b).unwrap(), "codebook");
+    }
+
+    #[test]
+    fn a_failed_rename_names_what_was_already_written() {
+        let dir = tempfile::tempdir().unwrap();
+        let a = dir.path().join("a.csv");
+        // A folder in the way of the second output: renaming a file onto it fails.
+        let b = dir.path().join("b");
+        std::fs::create_dir(&b).unwrap();
+        std::fs::write(b.join("keep"), "x").unwrap();
+        let err = commit_all(vec![written(&a, "data"), written(&b, "cb")]).unwrap_err();
+        match &err {
+            OutputError::PartialSet { path, done, .. } => {
+                assert_eq!(path, &b);
+                assert_eq!(done, &[a.clone()]);
+            }
+            other => panic!("{other:?}"),
+        }
+        assert!(err.to_string().contains("already written"), "{err}");
+        // Failing first: nothing is moved, and no temporary file is left.
+        std::fs::remove_file(&a).unwrap();
+        let err = commit_all(vec![written(&b, "cb"), written(&a, "data")]).unwrap_err();
+        assert!(matches!(err, OutputError::Io { .. }), "{err:?}");
+        assert_eq!(entries(dir.path()), ["b"]);
+    }
 
     #[test]
     fn failed_write_leaves_nothing() {

@@ -186,7 +186,7 @@ pub fn run(args: Args) -> Outcome {
         eprintln!("concord: cannot write {}: {e}", sidecar_out.display());
         return Outcome::CouldNotRun;
     }
-    if let Err(e) = file.commit().and_then(|_| side.commit()) {
+    if let Err(e) = crate::output::commit_all(vec![file, side]) {
         return could_not_run(e);
     }
     notices(&args, &codebook, &selection, &summary, &sidecar_out);

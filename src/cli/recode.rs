@@ -256,10 +256,12 @@ pub fn run(args: Args) -> Outcome {
             return could_not_run(e);
         }
     }
-    let committed = data_file
-        .commit()
-        .and_then(|_| codebook_file.commit())
-        .and_then(|_| audit_file.map_or(Ok(()), AtomicFile::commit));
+    let committed = crate::output::commit_all(
+        [data_file, codebook_file]
+            .into_iter()
+            .chain(audit_file)
+            .collect(),
+    );
     if let Err(e) = committed {
         return could_not_run(e);
     }
