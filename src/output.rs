@@ -221,7 +221,7 @@ mod tests {
         match &err {
             OutputError::PartialSet { path, done, .. } => {
                 assert_eq!(path, &b);
-                assert_eq!(done, &[a.clone()]);
+                assert_eq!(done, std::slice::from_ref(&a));
             }
             other => panic!("{other:?}"),
         }
