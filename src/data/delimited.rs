@@ -1,73 +1,39 @@
-//! Delimited files (CSV, TSV, any single-byte delimiter) read with the csv crate.
+//! Delimited files (CSV, TSV, any single-byte delimiter) read with the `csv-core` parser.
 //!
-//! The csv crate does the hard part (quotes, escaped quotes, embedded delimiters and newlines,
-//! CRLF or LF). This module adds what a codebook check needs on top: a header row read once and
-//! trimmed, data row numbers that exclude it, ragged rows passed through for the checker to
-//! report, and a cap on record size so an unclosed quote cannot swallow the whole file into
-//! memory.
+//! `csv-core` does the hard part (quotes, escaped quotes, embedded delimiters and newlines,
+//! CRLF or LF) and is the parser of the csv crate. It is driven directly here rather than
+//! through the csv crate's reader so that a record's fields land in the record's own reused
+//! buffers (one byte buffer, one array of field ends) and every byte consumed is seen once:
+//! that gives exact line numbers cheaply and lets the checker walk fields without going
+//! through a record type it cannot see into. On top of the parser this module adds what a
+//! codebook check needs: a header row read once and trimmed, data row numbers that exclude it,
+//! ragged rows passed through for the checker to report, and a cap on record size so an
+//! unclosed quote cannot swallow the whole file into memory.
 //!
-//! Empty lines follow the csv crate's default: a line with no bytes at all is skipped and is
-//! not a record (so it takes no row number, though physical line numbers still count it). A
-//! line holding only spaces, or only `""`, is a record with one field.
+//! Empty lines follow `csv-core`: a line with no bytes at all is skipped and is not a record
+//! (so it takes no row number, though physical line numbers still count it). A line holding
+//! only spaces, or only `""`, is a record with one field.
 
 use std::io::{self, Read};
+
+use csv_core::ReadRecordResult;
 
 use super::decode::StreamFault;
 use super::record::Record;
 use super::DataError;
 
-/// The stream as the csv reader sees it, with two extra duties:
-///
-/// - Cap the bytes handed over since the current record started. The csv crate buffers
-///   ahead, so the count may include up to one buffer of the next record; against a limit of
-///   megabytes that does not matter.
-/// - Remember the chunk last handed over, so the byte that ended a record can be looked up.
-///   The csv crate's line count stops before the LF of a CRLF pair, so on its own it puts
-///   every record of a Windows file one line too early; knowing whether a record ended on an
-///   LF lets us compute the record's first line backwards from the line after it. The csv
-///   reader only refills its buffer once it has used it up, so the byte just before its
-///   position is always in this chunk or is the last byte of the chunk before.
-pub(super) struct TrackedStream {
-    inner: Box<dyn Read + Send>,
-    used: u64,
-    limit: u64,
-    recent: Vec<u8>,
-    recent_start: u64,
-    before_recent: Option<u8>,
-}
-
-impl TrackedStream {
-    fn byte_at(&self, offset: u64) -> Option<u8> {
-        if offset >= self.recent_start {
-            let index = usize::try_from(offset - self.recent_start).ok()?;
-            self.recent.get(index).copied()
-        } else if offset + 1 == self.recent_start {
-            self.before_recent
-        } else {
-            None
-        }
-    }
-}
-
-impl Read for TrackedStream {
-    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
-        if self.used > self.limit {
-            return Err(StreamFault::RecordTooLong { limit: self.limit }.into_io());
-        }
-        let n = self.inner.read(buf)?;
-        if n > 0 {
-            self.before_recent = self.recent.last().copied().or(self.before_recent);
-            self.recent_start += self.recent.len() as u64;
-            self.recent.clear();
-            self.recent.extend_from_slice(&buf[..n]);
-        }
-        self.used += n as u64;
-        Ok(n)
-    }
-}
+/// Bytes read from the stream at a time.
+const CHUNK: usize = 64 * 1024;
 
 pub(super) struct DelimitedReader {
-    reader: csv::Reader<TrackedStream>,
+    parser: csv_core::Reader,
+    input: Box<dyn Read + Send>,
+    buf: Box<[u8]>,
+    /// `buf[pos..len]` is read but not yet parsed.
+    pos: usize,
+    len: usize,
+    eof: bool,
+    limit: u64,
     headers: Option<Vec<String>>,
     rows: u64,
 }
@@ -75,32 +41,24 @@ pub(super) struct DelimitedReader {
 impl DelimitedReader {
     pub(super) fn new(
         name: &str,
-        stream: Box<dyn Read + Send>,
+        input: Box<dyn Read + Send>,
         delimiter: u8,
         quote: u8,
         header: bool,
         limit: u64,
     ) -> Result<Self, DataError> {
-        let reader = csv::ReaderBuilder::new()
+        let parser = csv_core::ReaderBuilder::new()
             .delimiter(delimiter)
             .quote(quote)
-            // Larger than the 8 KiB default: fewer trips through the adapter chain below.
-            .buffer_capacity(64 * 1024)
-            // Headers are handled here, not by the csv crate, so that row numbers and the
-            // "no header row" error are ours.
-            .has_headers(false)
-            // Ragged rows are findings (structure.row-length), not read errors.
-            .flexible(true)
-            .from_reader(TrackedStream {
-                inner: stream,
-                used: 0,
-                limit,
-                recent: Vec::new(),
-                recent_start: 0,
-                before_recent: None,
-            });
+            .build();
         let mut this = DelimitedReader {
-            reader,
+            parser,
+            input,
+            buf: vec![0; CHUNK].into_boxed_slice(),
+            pos: 0,
+            len: 0,
+            eof: false,
+            limit,
             headers: None,
             rows: 0,
         };
@@ -129,7 +87,7 @@ impl DelimitedReader {
     }
 
     pub(super) fn set_limit(&mut self, limit: u64) {
-        self.reader.get_mut().limit = limit;
+        self.limit = limit;
     }
 
     pub(super) fn read_record(
@@ -146,52 +104,97 @@ impl DelimitedReader {
         Ok(true)
     }
 
+    /// Refill `buf` once it is used up; at the end of the stream `eof` is set instead.
+    fn fill(&mut self) -> io::Result<()> {
+        if self.pos < self.len || self.eof {
+            return Ok(());
+        }
+        loop {
+            match self.input.read(&mut self.buf) {
+                Ok(0) => {
+                    self.eof = true;
+                    break;
+                }
+                Ok(n) => {
+                    self.len = n;
+                    break;
+                }
+                Err(e) if e.kind() == io::ErrorKind::Interrupted => continue,
+                Err(e) => return Err(e),
+            }
+        }
+        self.pos = 0;
+        if self.eof {
+            self.len = 0;
+        }
+        Ok(())
+    }
+
+    /// Parse the next record into `record`; false at the end of the file.
     fn read_raw(
         &mut self,
         name: &str,
         record: &mut Record,
         row: Option<u64>,
     ) -> Result<bool, DataError> {
-        self.reader.get_mut().used = 0;
-        let mut bytes = record.take_byte_record();
-        match self.reader.read_byte_record(&mut bytes) {
-            Ok(true) => {
-                record.line = self.start_line(&bytes);
-                record.set_byte_record(bytes);
-                Ok(true)
+        let (raw, ends) = record.delimited_buffers();
+        let (mut out, mut nends) = (0, 0);
+        // Line of the record's first byte: found when the first byte that is not a line
+        // terminator is parsed (the parser skips empty lines before a record).
+        let mut start_line = None;
+        let mut consumed: u64 = 0;
+        loop {
+            // The parser counts lines: 1 plus the line feeds it has consumed.
+            let fault =
+                |this: &Self, e: io::Error| DataError::from_io(name, this.parser.line(), row, e);
+            self.fill().map_err(|e| fault(self, e))?;
+            let line = self.parser.line();
+            let input = &self.buf[self.pos..self.len];
+            let (result, nin, nout, nend) =
+                self.parser
+                    .read_record(input, &mut raw[out..], &mut ends[nends..]);
+            if start_line.is_none() {
+                let parsed = &input[..nin];
+                match parsed.iter().position(|&b| b != b'\n' && b != b'\r') {
+                    Some(first) => start_line = Some(line + count_lf(&parsed[..first])),
+                    None if result == ReadRecordResult::Record => start_line = Some(line),
+                    None => {}
+                }
             }
-            Ok(false) => {
-                record.restore_after_error(bytes);
-                Ok(false)
+            self.pos += nin;
+            out += nout;
+            nends += nend;
+            consumed += nin as u64;
+            if consumed > self.limit {
+                let e = StreamFault::RecordTooLong { limit: self.limit }.into_io();
+                return Err(fault(self, e));
             }
-            Err(error) => {
-                let line = bytes.position().map_or(0, |p| p.line());
-                record.restore_after_error(bytes);
-                let io = match error.into_kind() {
-                    csv::ErrorKind::Io(io) => io,
-                    other => io::Error::other(format!("{other:?}")),
-                };
-                Err(DataError::from_io(name, line, row, io))
+            match result {
+                ReadRecordResult::InputEmpty => {}
+                ReadRecordResult::OutputFull => {
+                    let grown = raw.len().max(64) * 2;
+                    raw.resize(grown, 0);
+                }
+                ReadRecordResult::OutputEndsFull => {
+                    let grown = ends.len().max(16) * 2;
+                    ends.resize(grown, 0);
+                }
+                ReadRecordResult::Record => {
+                    let line = start_line.unwrap_or(self.parser.line());
+                    record.set_delimited(out, nends, line);
+                    return Ok(true);
+                }
+                ReadRecordResult::End => {
+                    record.set_delimited(0, 0, self.parser.line());
+                    return Ok(false);
+                }
             }
         }
     }
+}
 
-    /// First physical line of the record just read: the line after it, less the newlines
-    /// inside its quoted fields, less one if it was ended by an LF (see [`TrackedStream`]).
-    fn start_line(&self, record: &csv::ByteRecord) -> u64 {
-        let after = self.reader.position();
-        let bytes = record.as_slice();
-        let embedded = if bytes.contains(&b'\n') {
-            bytes.iter().filter(|&&b| b == b'\n').count() as u64
-        } else {
-            0
-        };
-        let ended_by_lf =
-            after.byte() > 0 && self.reader.get_ref().byte_at(after.byte() - 1) == Some(b'\n');
-        after
-            .line()
-            .saturating_sub(embedded)
-            .saturating_sub(u64::from(ended_by_lf))
-            .max(1)
-    }
+/// Line feeds in `bytes`.
+#[inline]
+fn count_lf(bytes: &[u8]) -> u64 {
+    bytes.iter().filter(|&&b| b == b'\n').count() as u64
 }

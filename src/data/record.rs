@@ -5,10 +5,6 @@
 //! instead of failing, because one bad row in a million should become a finding, not stop the
 //! run.
 
-use std::mem;
-
-use csv::{ByteRecord, StringRecord};
-
 /// A fixed-width record whose length differs from the declared layout.
 ///
 /// `expected` is the largest `end` of the layout's fields, in characters; `actual` is the
@@ -31,11 +27,9 @@ impl LengthProblem {
 pub(super) enum Storage {
     /// Nothing read yet (or the last read failed).
     Empty,
-    /// Delimited record whose bytes are valid UTF-8: fields are served straight from it.
-    Csv(StringRecord),
-    /// Delimited record with invalid UTF-8: the raw bytes are kept for reuse and the fields
-    /// are served from the lossy copy in `text`/`bounds`.
-    CsvLossy(ByteRecord),
+    /// Delimited record: `text` holds the fields one after another, `ends` where each ends
+    /// (a lossy copy when the bytes were not UTF-8).
+    Delimited,
     /// Fixed-width line: `text` holds the line and `bounds` the trimmed fields.
     Line,
 }
@@ -47,6 +41,10 @@ pub struct Record {
     pub(super) storage: Storage,
     pub(super) text: String,
     pub(super) bounds: Vec<(usize, usize)>,
+    /// Delimited: the parser's output (field bytes one after another; only the front is
+    /// used, the rest is room) and the end of each field in it, then in `text`.
+    raw: Vec<u8>,
+    ends: Vec<usize>,
     /// Byte offset of each character of a non-ASCII fixed-width line, plus its length.
     pub(super) char_starts: Vec<usize>,
     pub(super) row: u64,
@@ -67,6 +65,8 @@ impl Record {
             storage: Storage::Empty,
             text: String::new(),
             bounds: Vec::new(),
+            raw: Vec::new(),
+            ends: Vec::new(),
             char_starts: Vec::new(),
             row: 0,
             line: 0,
@@ -79,8 +79,8 @@ impl Record {
     pub fn len(&self) -> usize {
         match &self.storage {
             Storage::Empty => 0,
-            Storage::Csv(record) => record.len(),
-            Storage::CsvLossy(_) | Storage::Line => self.bounds.len(),
+            Storage::Delimited => self.ends.len(),
+            Storage::Line => self.bounds.len(),
         }
     }
 
@@ -93,8 +93,12 @@ impl Record {
     pub fn field(&self, i: usize) -> Option<&str> {
         match &self.storage {
             Storage::Empty => None,
-            Storage::Csv(record) => record.get(i),
-            Storage::CsvLossy(_) | Storage::Line => {
+            Storage::Delimited => {
+                let end = *self.ends.get(i)?;
+                let start = if i == 0 { 0 } else { self.ends[i - 1] };
+                self.text.get(start..end)
+            }
+            Storage::Line => {
                 let &(start, end) = self.bounds.get(i)?;
                 self.text.get(start..end)
             }
@@ -105,8 +109,12 @@ impl Record {
     pub fn fields(&self) -> Fields<'_> {
         Fields(match &self.storage {
             Storage::Empty => FieldsInner::Empty,
-            Storage::Csv(record) => FieldsInner::Csv(record.iter()),
-            Storage::CsvLossy(_) | Storage::Line => FieldsInner::Text {
+            Storage::Delimited => FieldsInner::Ends {
+                text: &self.text,
+                ends: self.ends.iter(),
+                start: 0,
+            },
+            Storage::Line => FieldsInner::Text {
                 text: &self.text,
                 bounds: self.bounds.iter(),
             },
@@ -135,45 +143,47 @@ impl Record {
         self.length_problem
     }
 
-    /// Take the reusable byte buffer of a delimited record, leaving the record empty.
-    pub(super) fn take_byte_record(&mut self) -> ByteRecord {
-        match mem::replace(&mut self.storage, Storage::Empty) {
-            Storage::Csv(record) => record.into_byte_record(),
-            Storage::CsvLossy(record) => record,
-            // Only the first delimited read of a record (or after a fixed-width one) allocates.
-            Storage::Empty | Storage::Line => ByteRecord::new(),
+    /// The parser's buffers for a delimited read: room for the field bytes and for the field
+    /// ends (both keep their size from record to record; the reader grows them).
+    pub(super) fn delimited_buffers(&mut self) -> (&mut Vec<u8>, &mut Vec<usize>) {
+        self.storage = Storage::Empty;
+        if self.raw.len() < 256 {
+            self.raw.resize(256, 0);
         }
+        let room = self.ends.capacity().max(16);
+        self.ends.resize(room, 0);
+        (&mut self.raw, &mut self.ends)
     }
 
-    /// Store a freshly read delimited record: validated in place when it is UTF-8 (no copy),
-    /// copied lossily into the reused `text` buffer when it is not.
-    pub(super) fn set_byte_record(&mut self, record: ByteRecord) {
+    /// Finish a delimited read of `fields` fields (`bytes` bytes of field text) starting on
+    /// `line`: the text is kept when it is UTF-8, field by field (a character split between
+    /// two fields is invalid in both), and copied lossily when it is not.
+    pub(super) fn set_delimited(&mut self, bytes: usize, fields: usize, line: u64) {
+        self.ends.truncate(fields);
+        self.line = line;
         self.length_problem = None;
-        match StringRecord::from_byte_record(record) {
-            Ok(record) => {
-                self.invalid_utf8 = false;
-                self.storage = Storage::Csv(record);
-            }
-            Err(error) => {
-                let record = error.into_byte_record();
-                self.invalid_utf8 = true;
-                self.text.clear();
-                self.bounds.clear();
-                for field in record.iter() {
-                    let start = self.text.len();
-                    push_lossy(&mut self.text, field);
-                    self.bounds.push((start, self.text.len()));
+        self.text.clear();
+        let raw = &self.raw[..bytes];
+        let valid = match std::str::from_utf8(raw) {
+            Ok(text) => {
+                let whole = text.is_ascii() || self.ends.iter().all(|&e| text.is_char_boundary(e));
+                if whole {
+                    self.text.push_str(text);
                 }
-                self.storage = Storage::CsvLossy(record);
+                whole
+            }
+            Err(_) => false,
+        };
+        if !valid {
+            let mut start = 0;
+            for end in self.ends.iter_mut() {
+                push_lossy(&mut self.text, &raw[start..*end]);
+                start = *end;
+                *end = self.text.len();
             }
         }
-    }
-
-    /// Put back a byte buffer after a failed read so it is not lost, with no fields visible.
-    pub(super) fn restore_after_error(&mut self, mut record: ByteRecord) {
-        record.clear();
-        self.bounds.clear();
-        self.storage = Storage::CsvLossy(record);
+        self.invalid_utf8 = !valid;
+        self.storage = Storage::Delimited;
     }
 
     /// Store a fixed-width line as text (validated, or copied lossily); fields are set later.
@@ -210,7 +220,11 @@ pub struct Fields<'a>(FieldsInner<'a>);
 
 enum FieldsInner<'a> {
     Empty,
-    Csv(csv::StringRecordIter<'a>),
+    Ends {
+        text: &'a str,
+        ends: std::slice::Iter<'a, usize>,
+        start: usize,
+    },
     Text {
         text: &'a str,
         bounds: std::slice::Iter<'a, (usize, usize)>,
@@ -224,7 +238,19 @@ impl<'a> Iterator for Fields<'a> {
     fn next(&mut self) -> Option<&'a str> {
         match &mut self.0 {
             FieldsInner::Empty => None,
-            FieldsInner::Csv(fields) => fields.next(),
+            FieldsInner::Ends { text, ends, start } => {
+                let end = *ends.next()?;
+                debug_assert!(*start <= end && text.is_char_boundary(*start));
+                debug_assert!(end <= text.len() && text.is_char_boundary(end));
+                // SAFETY: `Record::set_delimited` made `text` hold the fields one after
+                // another with `ends` their ends in it, each one a character boundary
+                // (checked there, or true of ASCII text, or built so by the lossy copy), so
+                // consecutive ends (from 0) delimit a valid slice. Unchecked because this is
+                // the innermost loop of every command: the checks cost more than the field.
+                let field = unsafe { text.get_unchecked(*start..end) };
+                *start = end;
+                Some(field)
+            }
             FieldsInner::Text { text, bounds } => {
                 let &(start, end) = bounds.next()?;
                 Some(text.get(start..end).unwrap_or(""))
