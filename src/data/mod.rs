@@ -157,14 +157,14 @@ fn build(
                     },
                 });
             }
-            Reader::Delimited(DelimitedReader::new(
+            Reader::Delimited(Box::new(DelimitedReader::new(
                 &name,
                 stream,
                 *delimiter,
                 *quote,
                 *header,
                 MAX_RECORD_BYTES,
-            )?)
+            )?))
         }
         Layout::Fixed { fields } => {
             if !has_bytes {
@@ -215,7 +215,8 @@ pub struct RecordSource {
 }
 
 enum Reader {
-    Delimited(DelimitedReader),
+    /// Boxed: the parser's state tables are large.
+    Delimited(Box<DelimitedReader>),
     Fixed(FixedReader),
 }
 
