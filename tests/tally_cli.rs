@@ -295,6 +295,75 @@ fn numeric_variables_get_a_summary() {
 }
 
 #[test]
+fn weighted_quartiles_in_every_format_and_suppressed_with_the_rest() {
+    // Recounted from the CSV by the definition, the smallest x whose share of the weight
+    // (values <= x) reaches p; `tally_stats.rs` checks the same against numpy.
+    let mut valid: Vec<(f64, f64)> = rows(&wave1())
+        .iter()
+        .filter(|r| !["97", "98", ""].contains(&r["heat_hours"].as_str()))
+        .map(|r| {
+            (
+                r["heat_hours"].parse().unwrap(),
+                r["hh_weight"].parse().unwrap(),
+            )
+        })
+        .collect();
+    assert_eq!(valid.len(), 552);
+    valid.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let total: f64 = valid.iter().map(|v| v.1).sum();
+    let quantile = |p: f64| {
+        let mut running = 0.0;
+        valid
+            .iter()
+            .find(|(_, w)| {
+                running += w;
+                running / total >= p
+            })
+            .map(|v| v.0)
+    };
+    let json = tally_json(&wave1(), &["heat_hours"]);
+    let summary = &json["summary"];
+    let fields = ["weighted_q1", "weighted_median", "weighted_q3"];
+    for (field, p) in fields.into_iter().zip([0.25, 0.5, 0.75]) {
+        assert_eq!(summary[field].as_f64(), quantile(p), "{field}");
+    }
+    // Only when weighted.
+    let unweighted = tally_json(&wave1(), &["heat_hours", "--unweighted"]);
+    for field in fields {
+        assert!(unweighted["summary"][field].is_null(), "{field}");
+    }
+    let (_, text, _) = tally(&wave1(), &["heat_hours"]);
+    assert!(text.contains("weighted lower quartile"), "{text}");
+    assert!(text.contains("weighted median"), "{text}");
+    assert!(text.contains("weighted upper quartile"), "{text}");
+    let (_, markdown, _) = tally(&wave1(), &["heat_hours", "--format", "markdown"]);
+    let median = summary["weighted_median"].as_f64().unwrap();
+    assert!(
+        markdown.contains(&format!("| weighted median | {median} |")),
+        "{markdown}"
+    );
+    let (_, csv, _) = tally(&wave1(), &["heat_hours", "--format", "csv"]);
+    let mut reader = csv::Reader::from_reader(csv.as_bytes());
+    let headers = reader.headers().unwrap().clone();
+    let at = |name: &str| headers.iter().position(|h| h == name).unwrap();
+    let line = reader
+        .records()
+        .map(Result::unwrap)
+        .find(|r| &r[at("row_kind")] == "summary")
+        .expect("a summary row");
+    let cell = |name: &str| &line[at(name)];
+    for field in fields {
+        assert_eq!(cell(field).parse::<f64>().ok(), summary[field].as_f64());
+    }
+    // Suppression blanks them with the other figures.
+    let hidden = tally_json(&wave1(), &["heat_hours", "--suppress-below", "1000"]);
+    assert_eq!(hidden["summary"]["suppressed"], true);
+    for field in fields {
+        assert!(hidden["summary"][field].is_null(), "{field}");
+    }
+}
+
+#[test]
 fn binary_variable_by_group_gives_wilson_intervals() {
     let json = tally_json(&wave1(), &["wheeze", "--by", "district", "--unweighted"]);
     let group = &json["by_group"];

@@ -1,11 +1,15 @@
 //! The statistics of `concord tally` checked against published values. Each check names its
 //! source; values marked "from memory, recomputed" were recalled from the source's table and
-//! recomputed from the formula before being written here.
+//! recomputed from the formula before being written here. The weighted quartiles are checked
+//! against numpy, a general-purpose reference, when it is importable.
+
+use std::process::Command;
 
 use concord::tables::stats::{
     chi_square, chi_square_critical, cramers_v, kish_design_effect, kish_effective_n,
-    quantile_type7, wilson_count, WeightedRunning,
+    quantile_type7, weighted_quantile_inverted_cdf, wilson_count, WeightedRunning,
 };
+use serde_json::Value as Json;
 
 fn round4(x: f64) -> f64 {
     (x * 1e4).round() / 1e4
@@ -154,4 +158,188 @@ fn running_mean_and_sd_match_nist_strd() {
         "NumAcc4 mean",
     );
     close(four.sd().unwrap(), 0.1, 1e-7, "NumAcc4 s");
+}
+
+// ---- numpy as an outside reference ----
+
+fn python(script: &str) -> Option<String> {
+    let out = Command::new("python3")
+        .arg("-c")
+        .arg(script)
+        .output()
+        .ok()?;
+    out.status
+        .success()
+        .then(|| String::from_utf8_lossy(&out.stdout).into_owned())
+}
+
+/// Whether numpy with weighted quantiles (numpy 2.0 and later) is importable. When it is not,
+/// the caller skips with a message; under CI=true that is a failure.
+fn numpy_with_weights() -> bool {
+    let probe = "import numpy as np; np.quantile([1.0, 2.0], 0.5, weights=[1.0, 1.0], \
+                 method='inverted_cdf')";
+    if python(probe).is_some() {
+        return true;
+    }
+    assert!(
+        std::env::var("CI").as_deref() != Ok("true"),
+        "numpy >= 2.0 (quantile with weights) is not importable, but CI=true requires this \
+         test to run (pip install numpy)"
+    );
+    eprintln!("skipped: numpy >= 2.0 (quantile with weights) not importable");
+    false
+}
+
+/// A deterministic sample of `n` (value, weight) pairs: a 64-bit linear congruential
+/// generator (Knuth's MMIX constants). Values are quarters from 0 to 49.75, so a sample of a
+/// few hundred has many ties; weights are positive reals in [0.1, 3.1) with `decimals`
+/// decimals (`None`: full precision).
+fn weighted_sample(n: usize, decimals: Option<usize>) -> Vec<(f64, f64)> {
+    let mut state: u64 = 0x9e37_79b9_7f4a_7c15;
+    let mut next = || {
+        state = state
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        state >> 11
+    };
+    (0..n)
+        .map(|_| {
+            let value = (next() % 200) as f64 / 4.0;
+            let weight = 0.1 + 3.0 * next() as f64 / (1u64 << 53) as f64;
+            let weight = match decimals {
+                Some(d) => format!("{weight:.d$}").parse().unwrap(),
+                None => weight,
+            };
+            (value, weight)
+        })
+        .collect()
+}
+
+/// Distinct values in increasing order with their weight sums, as the tally pass keeps them.
+fn by_value(sample: &[(f64, f64)]) -> Vec<(f64, f64)> {
+    let mut sorted = sample.to_vec();
+    sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut out: Vec<(f64, f64)> = Vec::new();
+    for (x, w) in sorted {
+        match out.last_mut() {
+            Some(last) if last.0 == x => last.1 += w,
+            _ => out.push((x, w)),
+        }
+    }
+    out
+}
+
+/// The reference is only sharp when no cumulative weight share lies on a probability asked
+/// for: there the two sides of `>=` differ by rounding alone. Real-valued weights make that
+/// practically impossible; this makes sure of it.
+fn assert_no_share_near(sorted: &[(f64, f64)], probabilities: &[f64]) {
+    let total: f64 = sorted.iter().map(|(_, w)| w).sum();
+    let mut running = 0.0;
+    for (x, w) in sorted {
+        running += w;
+        for p in probabilities {
+            assert!(
+                (running / total - p).abs() > 1e-9,
+                "the share at {x} is {p}: choose another sample"
+            );
+        }
+    }
+}
+
+const QUARTILES: [f64; 3] = [0.25, 0.5, 0.75];
+
+#[test]
+fn weighted_quartiles_match_numpy_inverted_cdf() {
+    if !numpy_with_weights() {
+        return;
+    }
+    let sample = weighted_sample(400, None);
+    let sorted = by_value(&sample);
+    assert!(sorted.len() < sample.len() / 2, "the sample has ties");
+    let probabilities = [0.1, 0.25, 0.5, 0.75, 0.9];
+    assert_no_share_near(&sorted, &probabilities);
+    // Rust's `{}` writes the shortest text that reads back as the same f64 in Python.
+    let list = |f: fn(&(f64, f64)) -> f64| {
+        let items: Vec<String> = sample.iter().map(|p| format!("{}", f(p))).collect();
+        format!("[{}]", items.join(", "))
+    };
+    let script = format!(
+        "import json, numpy as np\n\
+         a = np.array({values}); w = np.array({weights})\n\
+         print(json.dumps([float(np.quantile(a, p, weights=w, method='inverted_cdf')) \
+         for p in {probabilities:?}]))\n",
+        values = list(|p| p.0),
+        weights = list(|p| p.1),
+    );
+    let numpy: Vec<f64> =
+        serde_json::from_str(&python(&script).expect("the numpy script runs")).unwrap();
+    for (p, expected) in probabilities.into_iter().zip(numpy) {
+        // numpy 2.x `numpy.quantile(a, p, weights=w, method="inverted_cdf")`, the weighted
+        // form of Hyndman & Fan (1996) type 1: both pick a value of the data, so exactly.
+        assert_eq!(
+            weighted_quantile_inverted_cdf(&sorted, p),
+            Some(expected),
+            "p = {p}"
+        );
+    }
+}
+
+#[test]
+fn tally_weighted_quartiles_match_numpy_through_the_binary() {
+    if !numpy_with_weights() {
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let sample = weighted_sample(300, Some(6));
+    assert_no_share_near(&by_value(&sample), &QUARTILES);
+    let mut data = String::from("id,x,w\n");
+    for (i, (x, w)) in sample.iter().enumerate() {
+        data.push_str(&format!("C{i},{x},{w:.6}\n"));
+    }
+    let data_path = dir.path().join("data.csv");
+    std::fs::write(&data_path, &data).unwrap();
+    let codebook = dir.path().join("codebook.toml");
+    std::fs::write(
+        &codebook,
+        "[dataset]\nname = \"numpy\"\nid = [\"id\"]\n\n\
+         [[variables]]\nname = \"id\"\nkind = \"identifier\"\n\n\
+         [[variables]]\nname = \"x\"\nkind = \"numeric\"\nrange = { min = 0, max = 50 }\n\n\
+         [[variables]]\nname = \"w\"\nkind = \"numeric\"\nrange = { min = 0, max = 5 }\n",
+    )
+    .unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_concord"))
+        .args(["tally"])
+        .arg(&codebook)
+        .arg(&data_path)
+        .args(["x", "--weight", "w", "--format", "json"])
+        .env_remove("CI")
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let json: Json = serde_json::from_slice(&out.stdout).unwrap();
+    let summary = &json["summary"];
+    assert_eq!(json["cases"], 300, "no case was left out");
+    let script = format!(
+        "import csv, json, numpy as np\n\
+         rows = list(csv.DictReader(open({path:?})))\n\
+         a = np.array([float(r['x']) for r in rows]); w = np.array([float(r['w']) for r in rows])\n\
+         print(json.dumps([float(np.quantile(a, p, weights=w, method='inverted_cdf')) \
+         for p in {QUARTILES:?}]))\n",
+        path = data_path.display().to_string(),
+    );
+    let numpy: Vec<f64> =
+        serde_json::from_str(&python(&script).expect("the numpy script runs")).unwrap();
+    for (field, expected) in ["weighted_q1", "weighted_median", "weighted_q3"]
+        .into_iter()
+        .zip(numpy)
+    {
+        // numpy 2.x `numpy.quantile(x, p, weights=w, method="inverted_cdf")` on the same CSV.
+        assert_eq!(summary[field].as_f64(), Some(expected), "{field}");
+    }
+    // The unweighted quartiles stay type 7, a different definition; they are still there.
+    assert!(summary["q1"].as_f64().is_some());
 }

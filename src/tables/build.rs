@@ -450,18 +450,35 @@ fn numeric_summary(
         };
     }
     let sorted = acc.distinct.as_ref().map(|map| {
-        let mut values: Vec<(f64, u64)> =
+        let mut values: Vec<(f64, (u64, f64))> =
             map.iter().map(|(b, c)| (f64::from_bits(*b), *c)).collect();
         values.sort_by(|a, b| a.0.total_cmp(&b.0));
         values
     });
+    let counts: Option<Vec<(f64, u64)>> = sorted
+        .as_ref()
+        .map(|s| s.iter().map(|&(x, (n, _))| (x, n)).collect());
+    let weights: Option<Vec<(f64, f64)>> = sorted
+        .as_ref()
+        .filter(|_| weighted)
+        .map(|s| s.iter().map(|&(x, (_, w))| (x, w)).collect());
     if sorted.is_none() {
         notes.push(format!(
-            "quartiles are left out: more than {} distinct values",
+            "{} left out: more than {} distinct values",
+            if weighted {
+                "quartiles and weighted quartiles are"
+            } else {
+                "quartiles are"
+            },
             super::pass::MAX_DISTINCT
         ));
     }
-    let quantile = |p| sorted.as_deref().and_then(|s| stats::quantile_type7(s, p));
+    let quantile = |p| counts.as_deref().and_then(|s| stats::quantile_type7(s, p));
+    let weighted_quantile = |p| {
+        weights
+            .as_deref()
+            .and_then(|s| stats::weighted_quantile_inverted_cdf(s, p))
+    };
     let interval = if weighted {
         acc.running.mean_interval()
     } else {
@@ -478,6 +495,9 @@ fn numeric_summary(
         max: unit.max(),
         weighted_mean: if weighted { acc.running.mean() } else { None },
         weighted_sd: if weighted { acc.running.sd() } else { None },
+        weighted_q1: weighted_quantile(0.25),
+        weighted_median: weighted_quantile(0.5),
+        weighted_q3: weighted_quantile(0.75),
         effective_n: if weighted {
             acc.running.effective_n()
         } else {

@@ -144,6 +144,11 @@ pub struct Summary {
     pub max: Option<f64>,
     pub weighted_mean: Option<f64>,
     pub weighted_sd: Option<f64>,
+    /// Weighted quartiles: the weighted inverted empirical CDF (Hyndman and Fan type 1 with
+    /// weights), set when the table is weighted and the distinct values were kept.
+    pub weighted_q1: Option<f64>,
+    pub weighted_median: Option<f64>,
+    pub weighted_q3: Option<f64>,
     pub effective_n: Option<f64>,
     /// 95% t interval of the mean (weighted, with `effective_n`, when weighted).
     pub mean_ci95_low: Option<f64>,

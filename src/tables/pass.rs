@@ -4,7 +4,7 @@
 //! Cells are read exactly as `concord check` reads them ([`classify`] and the plan's code
 //! table), so a table never counts a "99 = not recorded" as a category. Memory stays flat:
 //! counts per category, running sums, and at most [`MAX_DISTINCT`] distinct values of a
-//! numeric variable for its quartiles.
+//! numeric variable (with their counts and weight sums) for its quartiles.
 
 use std::collections::HashMap;
 
@@ -68,8 +68,10 @@ pub struct Accumulated {
     pub running: WeightedRunning,
     /// The same with every weight 1.
     pub unit: WeightedRunning,
-    /// Numeric variable: count per distinct value (by bit pattern), while under the cap.
-    pub distinct: Option<HashMap<u64, u64>>,
+    /// Numeric variable: per distinct value (by bit pattern), its count and the sum of its
+    /// weights, while under the cap. The counts give the unweighted quartiles, the weight sums
+    /// the weighted ones, so both come from one map and one cap.
+    pub distinct: Option<HashMap<u64, (u64, f64)>>,
     /// `--by`: the levels, as category indices (all of them, in codebook order) or numbers
     /// (in order of first sight).
     pub by_levels: Vec<ByLevel>,
@@ -203,7 +205,9 @@ pub fn run(
                 acc.unit.push(x, 1.0);
                 if let Some(map) = &mut acc.distinct {
                     // -0.0 and 0.0 are one value.
-                    *map.entry((x + 0.0).to_bits()).or_insert(0) += 1;
+                    let entry = map.entry((x + 0.0).to_bits()).or_insert((0, 0.0));
+                    entry.0 += 1;
+                    entry.1 += w;
                     if map.len() > MAX_DISTINCT {
                         acc.distinct = None;
                     }

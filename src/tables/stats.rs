@@ -249,6 +249,42 @@ pub fn quantile_type7(sorted: &[(f64, u64)], p: f64) -> Option<f64> {
     Some(below + (h - h.floor()) * (above - below))
 }
 
+/// Weighted sample quantile by the inverted empirical distribution function: with `W` the
+/// total weight and `S(x)` the sum of the weights of the values `<= x`,
+/// `Q(p) = min { x : S(x) / W >= p }`.
+///
+/// This is Hyndman & Fan (1996) Am. Stat. 50:361-365, type 1, with each value's share `1/n`
+/// replaced by its share of the weight; it is the definition of numpy's `quantile` with
+/// `weights=` and `method="inverted_cdf"` (numpy 2.0 and later). With equal weights it is
+/// type 1 exactly, and it is the same as repeating each case `w` times, so a weight of 2
+/// counts a case twice. It never interpolates: every quantile is a value of the data.
+///
+/// `sorted` holds the distinct values in increasing order, each with the sum of its cases'
+/// weights. Values whose weights sum to zero carry no mass and are passed over, so `Q(0)` is
+/// the smallest value with positive weight. Returns `None` when there are no values, the total
+/// weight is not positive and finite, or `p` is outside [0, 1].
+pub fn weighted_quantile_inverted_cdf(sorted: &[(f64, f64)], p: f64) -> Option<f64> {
+    // The total is summed over the same weights in the same order as the running total, so
+    // the last share is exactly 1 and p = 1 always finds the largest value of positive weight.
+    let total: f64 = sorted.iter().map(|&(_, w)| w).filter(|&w| w > 0.0).sum();
+    if !total.is_finite() || total <= 0.0 || !(0.0..=1.0).contains(&p) {
+        return None;
+    }
+    let mut running = 0.0;
+    let mut last = None;
+    for &(value, weight) in sorted {
+        if weight <= 0.0 {
+            continue;
+        }
+        running += weight;
+        last = Some(value);
+        if running / total >= p {
+            return last;
+        }
+    }
+    last
+}
+
 /// The 0-based k-th smallest value of a sorted list of (value, count).
 fn order_statistic(sorted: &[(f64, u64)], k: u64) -> Option<f64> {
     let mut seen = 0;
@@ -286,5 +322,43 @@ mod tests {
         assert_eq!(t_interval(1.0, 1.0, 1.0), None);
         assert_eq!(kish_effective_n(0.0, 0.0), None);
         assert_eq!(quantile_type7(&[], 0.5), None);
+        assert_eq!(weighted_quantile_inverted_cdf(&[], 0.5), None);
+        assert_eq!(weighted_quantile_inverted_cdf(&[(1.0, 0.0)], 0.5), None);
+        assert_eq!(weighted_quantile_inverted_cdf(&[(1.0, 1.0)], 1.5), None);
+        assert_eq!(weighted_quantile_inverted_cdf(&[(1.0, 1.0)], -0.1), None);
+        assert_eq!(
+            weighted_quantile_inverted_cdf(&[(1.0, 1.0)], f64::NAN),
+            None
+        );
+    }
+
+    /// Worked example, checked by hand from the definition Q(p) = min { x : S(x) / W >= p }.
+    #[test]
+    fn weighted_inverted_cdf_worked_example() {
+        let q = |sorted: &[(f64, f64)], p| weighted_quantile_inverted_cdf(sorted, p).unwrap();
+        // 1, 2, 3, 4 with weight 1 each: the shares are 0.25, 0.5, 0.75, 1, so the quartiles
+        // are the type-1 quartiles 1, 2, 3 (the share reaches p exactly at each of them).
+        let even = [(1.0, 1.0), (2.0, 1.0), (3.0, 1.0), (4.0, 1.0)];
+        assert_eq!(
+            (q(&even, 0.25), q(&even, 0.5), q(&even, 0.75)),
+            (1.0, 2.0, 3.0)
+        );
+        assert_eq!(
+            (q(&even, 0.0), q(&even, 0.26), q(&even, 1.0)),
+            (1.0, 2.0, 4.0)
+        );
+        // 1 with weight 3, 2 with weight 1: 1 holds 3/4 of the weight, so the median and the
+        // upper quartile are 1; only past p = 0.75 is the answer 2.
+        let heavy = [(1.0, 3.0), (2.0, 1.0)];
+        assert_eq!(
+            (q(&heavy, 0.5), q(&heavy, 0.75), q(&heavy, 0.76)),
+            (1.0, 1.0, 2.0)
+        );
+        // A value of zero weight is not in the distribution, not even at p = 0.
+        let zero = [(0.5, 0.0), (1.0, 2.0), (7.0, 2.0)];
+        assert_eq!(
+            (q(&zero, 0.0), q(&zero, 0.5), q(&zero, 0.51)),
+            (1.0, 1.0, 7.0)
+        );
     }
 }

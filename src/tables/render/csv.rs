@@ -3,7 +3,7 @@
 
 use crate::tables::model::*;
 
-const HEADER: [&str; 38] = [
+const HEADER: [&str; 41] = [
     "table",
     "var",
     "var_code",
@@ -35,6 +35,9 @@ const HEADER: [&str; 38] = [
     "max",
     "weighted_mean",
     "weighted_sd",
+    "weighted_q1",
+    "weighted_median",
+    "weighted_q3",
     "effective_n",
     "chi_square",
     "df",
@@ -123,6 +126,9 @@ pub fn csv(report: &TallyReport) -> String {
             .float("max", s.max)
             .float("weighted_mean", s.weighted_mean)
             .float("weighted_sd", s.weighted_sd)
+            .float("weighted_q1", s.weighted_q1)
+            .float("weighted_median", s.weighted_median)
+            .float("weighted_q3", s.weighted_q3)
             .float("effective_n", s.effective_n)
             .float("ci95_low", s.mean_ci95_low)
             .float("ci95_high", s.mean_ci95_high)

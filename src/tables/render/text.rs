@@ -251,6 +251,9 @@ fn summary_grid(s: &Summary) -> Grid {
     if s.weighted_mean.is_some() {
         add("weighted mean", grid::statistic(s.weighted_mean));
         add("weighted sd", grid::statistic(s.weighted_sd));
+        add("weighted lower quartile", grid::statistic(s.weighted_q1));
+        add("weighted median", grid::statistic(s.weighted_median));
+        add("weighted upper quartile", grid::statistic(s.weighted_q3));
         add("Kish effective n", grid::fixed(s.effective_n, 1));
     }
     add(
