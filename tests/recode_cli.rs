@@ -1,6 +1,10 @@
 //! `concord recode` through the built binary: applying the demo recodes end to end, bad
 //! input, division by zero, and the quantile and cut banding compared with numpy.
 
+mod support;
+
+use support::python;
+
 use std::collections::HashMap;
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -318,17 +322,6 @@ fn sample(n: usize) -> Vec<f64> {
             ((state >> 33) % 10_000) as f64 / 100.0
         })
         .collect()
-}
-
-fn python(script: &str) -> Option<String> {
-    let out = Command::new("python3")
-        .arg("-c")
-        .arg(script)
-        .output()
-        .ok()?;
-    out.status
-        .success()
-        .then(|| String::from_utf8_lossy(&out.stdout).into_owned())
 }
 
 /// numpy (PyPI), a general-purpose reference: `numpy.quantile(method="linear")` is

@@ -3,6 +3,10 @@
 //! recomputed from the formula before being written here. The weighted quartiles are checked
 //! against numpy, a general-purpose reference, when it is importable.
 
+mod support;
+
+use support::python;
+
 use std::process::Command;
 
 use concord::tables::stats::{
@@ -161,17 +165,6 @@ fn running_mean_and_sd_match_nist_strd() {
 }
 
 // ---- numpy as an outside reference ----
-
-fn python(script: &str) -> Option<String> {
-    let out = Command::new("python3")
-        .arg("-c")
-        .arg(script)
-        .output()
-        .ok()?;
-    out.status
-        .success()
-        .then(|| String::from_utf8_lossy(&out.stdout).into_owned())
-}
 
 /// Whether numpy with weighted quantiles (numpy 2.0 and later) is importable. When it is not,
 /// the caller skips with a message; under CI=true that is a failure.

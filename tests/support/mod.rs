@@ -213,3 +213,16 @@ pub fn tally_sum(v: &Json) -> u64 {
         .sum::<u64>()
         + missing
 }
+
+/// Run a Python script (`python3 -c`) and return what it printed, or `None` when Python or a
+/// module it imports is missing or the script fails. Tests that compare with numpy use it.
+pub fn python(script: &str) -> Option<String> {
+    let out = Command::new("python3")
+        .arg("-c")
+        .arg(script)
+        .output()
+        .ok()?;
+    out.status
+        .success()
+        .then(|| String::from_utf8_lossy(&out.stdout).into_owned())
+}
