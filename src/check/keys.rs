@@ -36,6 +36,19 @@ impl Keys {
         if plan.key.is_empty() {
             return KeyStatus::None;
         }
+        // The usual key: one variable holding a serial of the file's shape.
+        if let [k] = plan.key[..] {
+            let value = plan.columns[k].field.and_then(|f| record.field(f));
+            let value = trim(value.unwrap_or(""));
+            if value.is_empty() {
+                return KeyStatus::Blank;
+            }
+            match self.set.insert_serial(value) {
+                Some(true) => return KeyStatus::Fresh,
+                Some(false) => return KeyStatus::Repeat,
+                None => {}
+            }
+        }
         let blank = key_text(plan, record, &mut self.text);
         if blank {
             KeyStatus::Blank
@@ -177,6 +190,33 @@ impl KeySet {
         self.hashes.insert(hash_key(key))
     }
 
+    /// [`KeySet::insert`] for a one-variable key (the trimmed value, without U+001F) when it
+    /// has the bitmap's shape: the same prefix, then exactly that many digits. The prefix
+    /// never ends in a digit, so such a key splits exactly as `split_serial` would split it.
+    /// `None` when there is no bitmap or the key has another shape.
+    fn insert_serial(&mut self, value: &str) -> Option<bool> {
+        let Serial::Active(bitmap) = &mut self.serial else {
+            return None;
+        };
+        let digits = value.strip_prefix(bitmap.prefix.as_str())?.as_bytes();
+        if digits.len() != bitmap.digits {
+            return None;
+        }
+        let mut n = 0u64;
+        for &c in digits {
+            let d = c.wrapping_sub(b'0');
+            if d > 9 {
+                return None;
+            }
+            n = n * 10 + u64::from(d);
+        }
+        let fresh = bitmap.insert(n);
+        if fresh && bitmap.is_sparse() {
+            self.stop_serial();
+        }
+        Some(fresh)
+    }
+
     /// Move the bitmap's keys into the hash set and stop using it.
     fn stop_serial(&mut self) {
         let Serial::Active(bitmap) = std::mem::replace(&mut self.serial, Serial::Off) else {
@@ -271,6 +311,28 @@ mod tests {
             assert!(!keys.insert(&spread(n), 1), "{n}");
         }
         assert!(keys.insert(&spread(2_000), 1));
+    }
+
+    #[test]
+    fn the_serial_shortcut_agrees_with_the_full_path() {
+        // The same keys through `insert` (the text path) and, where it applies,
+        // `insert_serial`: the same answers, key by key.
+        let keys: Vec<String> = ["P00000001", "P00000002", "P00000001", "P1", "P000000003"]
+            .iter()
+            .map(|k| k.to_string())
+            .chain((0..50_000).map(|n| format!("P{:08}", n * 7 % 40_000)))
+            .chain(["Q00000001", "P0000000A", "P00000002 "].map(String::from))
+            .collect();
+        let mut full = KeySet::default();
+        let mut quick = KeySet::default();
+        for k in &keys {
+            let expected = full.insert(&key(k), 1);
+            let got = match quick.insert_serial(k) {
+                Some(fresh) => fresh,
+                None => quick.insert(&key(k), 1),
+            };
+            assert_eq!(got, expected, "{k}");
+        }
     }
 
     #[test]
