@@ -11,7 +11,7 @@
 //! the classifier itself.
 
 use super::cell::{classify_counted, parse_number, trim, Cell, Seen, ValueRule};
-use super::plan::{ColumnPlan, Parse};
+use super::plan::{CodeMeaning, ColumnPlan, Parse};
 use crate::codebook::model::{MissingKind, Range};
 
 /// A classified cell: which of the [`TAGS`] kinds of cell it is, and the category index a
@@ -93,10 +93,13 @@ pub struct Quick {
     plain: Option<Plain>,
 }
 
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 struct Plain {
     range: Option<Range>,
     decimals: Option<u32>,
+    /// Codes outside the table (negative, fractional or large ones, such as `-9` for
+    /// "don't know") and their classes.
+    extra: Vec<(f64, Class)>,
 }
 
 impl Quick {
@@ -124,10 +127,26 @@ impl Quick {
         // Every code of the variable is a whole number below the table's end, so a number
         // that misses the table cannot be a code.
         let plain = match col.parse {
-            Parse::Numeric { range, decimals }
-                if !col.codes.has_other_numbers() && col.codes.dense_len() <= len =>
-            {
-                Some(Plain { range, decimals })
+            Parse::Numeric { range, decimals } if col.codes.dense_len() <= len => {
+                let extra = col
+                    .codes
+                    .other_numbers()
+                    .iter()
+                    .map(|&(code, meaning)| {
+                        let class = match meaning {
+                            CodeMeaning::Category(c) => {
+                                Class::new(Cell::Valid(Seen::Number(code)), Some(c))
+                            }
+                            CodeMeaning::Missing(kind) => Class::new(Cell::Missing(kind), None),
+                        };
+                        (code, class)
+                    })
+                    .collect();
+                Some(Plain {
+                    range,
+                    decimals,
+                    extra,
+                })
             }
             _ => None,
         };
@@ -156,7 +175,7 @@ pub fn classify_class(table: &[Class], col: &ColumnPlan, text: &str, number: &mu
             return table[n];
         }
     }
-    if let Some(plain) = col.quick.plain {
+    if let Some(plain) = &col.quick.plain {
         if let Some(class) = classify_plain(plain, &col.quick.table, text, number) {
             return class;
         }
@@ -169,21 +188,28 @@ pub fn classify_class(table: &[Class], col: &ColumnPlan, text: &str, number: &mu
 }
 
 /// A number of a [`Plain`] variable that is not a short whole number: its range and
-/// decimals decide. `None` sends the cell to the classifier (not a plain number, or a whole
-/// number past the table).
+/// decimals decide, after the codes outside the table. `None` sends the cell to the
+/// classifier (not a plain number).
 #[inline]
-fn classify_plain(plain: Plain, table: &[Class], text: &str, number: &mut f64) -> Option<Class> {
+fn classify_plain(plain: &Plain, table: &[Class], text: &str, number: &mut f64) -> Option<Class> {
     let parsed = parse_number(text)?;
-    if let Some(whole) = parsed.whole {
-        return table
-            .get(whole)
-            .inspect(|_| *number = parsed.value)
-            .copied();
-    }
     let n = parsed.value;
-    // A whole number written too long for `whole` (`0000000000000001`) can still be a code.
-    if n >= 0.0 && n as usize as f64 == n {
-        return None;
+    match parsed.whole {
+        Some(whole) if whole < table.len() => {
+            *number = n;
+            return Some(table[whole]);
+        }
+        Some(_) => {}
+        // A whole number written too long for `whole` (`0000000000000001`) can still be a
+        // code of the table.
+        None if n >= 0.0 && n as usize as f64 == n && (n as usize) < table.len() => return None,
+        None => {}
+    }
+    if let Some(&(_, class)) = plain.extra.iter().find(|(code, _)| *code == n) {
+        if class.is_number() {
+            *number = n;
+        }
+        return Some(class);
     }
     let tag = if plain.range.is_some_and(|r| !r.contains(n)) {
         INVALID + ValueRule::OutOfRange as u32
@@ -224,7 +250,8 @@ name = "income"
 kind = "numeric"
 range = { min = 0.5, max = 5000 }
 decimals = 2
-missing = [{ code = 9999, label = "r", kind = "refused" }, { code = -1, label = "n", kind = "not-ascertained" }]
+missing = [{ code = 9999, label = "r", kind = "refused" }, { code = -1, label = "n", kind = "not-ascertained" }, { code = 99999, label = "x", kind = "other" }]
+categories = [{ code = -2.5, label = "owes" }]
 [[variables]]
 name = "hours"
 kind = "numeric"
@@ -279,6 +306,15 @@ kind = "text"
             "1.",
             ".5",
             "\u{a0}1",
+            "99999",
+            "99999.0",
+            "-2.5",
+            "-2.50",
+            "-1.0",
+            "4096",
+            "-0.0",
+            "1024",
+            "1023",
         ] {
             cells.push(extra.to_string());
         }
@@ -302,7 +338,7 @@ kind = "text"
         assert!(!plan.columns[0].quick.table().is_empty());
         assert!(plan.columns[1].quick.table().is_empty());
         assert!(plan.columns[2].quick.plain.is_some());
-        assert!(plan.columns[3].quick.plain.is_none());
+        assert!(plan.columns[3].quick.plain.is_some(), "codes outside the table");
     }
 
     #[test]

@@ -62,9 +62,9 @@ impl CodeTable {
         self.dense.len()
     }
 
-    /// Some code is a number that is not in the dense table (negative, fractional, large).
-    pub fn has_other_numbers(&self) -> bool {
-        !self.other_numbers.is_empty()
+    /// Codes that are numbers outside the dense table (negative, fractional, large).
+    pub fn other_numbers(&self) -> &[(f64, CodeMeaning)] {
+        &self.other_numbers
     }
 
     pub fn has_texts(&self) -> bool {
