@@ -126,7 +126,7 @@ impl Condition {
             },
             Condition::Not(operand) => !operand.eval(row),
             Condition::CompareNumber { op, left, right } => {
-                match (left.eval(row), right.eval(row)) {
+                match (left.eval_leaf(row), right.eval_leaf(row)) {
                     (Some(a), Some(b)) => Tri::from(compare(*op, a, b)),
                     _ => Tri::Unknown,
                 }
@@ -163,6 +163,20 @@ fn compare(op: CompareOp, a: f64, b: f64) -> bool {
 }
 
 impl Number {
+    /// [`Number::eval`] with its two commonest cases (a variable, a constant: most
+    /// conditions compare one with the other) inline, not behind a recursive call.
+    #[inline(always)]
+    fn eval_leaf(&self, row: &dyn Row) -> Option<f64> {
+        match self {
+            Number::Constant(value) => value.is_finite().then_some(*value),
+            Number::Variable(var) => match row.value(*var) {
+                Value::Number(value) => value.is_finite().then_some(value),
+                Value::Missing | Value::Text(_) => None,
+            },
+            _ => self.eval(row),
+        }
+    }
+
     pub(crate) fn eval(&self, row: &dyn Row) -> Option<f64> {
         let result = match self {
             Number::Constant(value) => *value,
