@@ -338,7 +338,10 @@ kind = "text"
         assert!(!plan.columns[0].quick.table().is_empty());
         assert!(plan.columns[1].quick.table().is_empty());
         assert!(plan.columns[2].quick.plain.is_some());
-        assert!(plan.columns[3].quick.plain.is_some(), "codes outside the table");
+        assert!(
+            plan.columns[3].quick.plain.is_some(),
+            "codes outside the table"
+        );
     }
 
     #[test]
