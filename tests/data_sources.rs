@@ -486,3 +486,52 @@ fn progress_counts_raw_bytes() {
     assert_eq!(read_all(&mut source).len(), 50_000);
     assert_eq!(source.bytes_read(), bytes.len() as u64);
 }
+
+/// A file far larger than the reader's 64 KiB buffer, with records, quoted newlines, blank
+/// lines and non-ASCII text falling across buffer boundaries, in LF and CRLF. The fields must
+/// be exactly what the csv crate's own reader (a general-purpose reference, configured as a
+/// plain CSV reader that allows ragged rows) yields for the same bytes, and each record's line
+/// must be the line on which the generator started it.
+#[test]
+fn large_files_read_like_the_csv_crate_with_true_lines() {
+    for newline in ["\n", "\r\n"] {
+        let mut text = String::from("id,note,n");
+        text.push_str(newline);
+        let mut line = 2u64;
+        let mut lines = Vec::new();
+        for i in 0..12_000u64 {
+            if i % 97 == 0 {
+                text.push_str(newline);
+                line += 1;
+            }
+            lines.push(line);
+            match i % 5 {
+                0 => text.push_str(&format!("{i},\"two{newline}lines, quoted\",{}", i * 3)),
+                1 => text.push_str(&format!("{i},Zoë and Łukasz,{}", i % 7)),
+                2 => text.push_str(&format!("{i},\"say \"\"hi\"\"\",")),
+                3 => text.push_str(&format!("{i},,{},extra", i)),
+                _ => text.push_str(&format!("{i},plain text with some length to it,{}", i / 2)),
+            }
+            line += 1 + u64::from(i % 5 == 0);
+            text.push_str(newline);
+        }
+        let bytes = text.as_bytes();
+        assert!(bytes.len() > 4 * 64 * 1024, "{} bytes", bytes.len());
+        let got = read_bytes(bytes, &csv());
+        let mut reference = csv::ReaderBuilder::new()
+            .has_headers(true)
+            .flexible(true)
+            .from_reader(bytes);
+        let expected: Vec<Vec<String>> = reference
+            .records()
+            .map(|r| r.unwrap().iter().map(str::to_string).collect())
+            .collect();
+        assert_eq!(got.len(), expected.len());
+        for (i, (seen, fields)) in got.iter().zip(&expected).enumerate() {
+            assert_eq!(&seen.fields, fields, "record {i} ({newline:?})");
+            assert_eq!(seen.row, i as u64 + 1);
+            assert_eq!(seen.line, lines[i], "line of record {i} ({newline:?})");
+            assert!(!seen.invalid_utf8);
+        }
+    }
+}
