@@ -390,6 +390,39 @@ fn a_missing_file_names_the_path_and_the_reason() {
 }
 
 #[test]
+fn a_line_of_delimiters_stops_at_the_field_cap() {
+    // 1 MiB of commas on one line: within the byte cap, but a million and more fields.
+    let mut bytes = b"id,note\n1,ok\n".to_vec();
+    bytes.extend(vec![b','; (1 << 20) + 5]);
+    bytes.extend(b"\n3,x\n");
+    let mut source = from_bytes(&bytes, &csv()).unwrap();
+    let mut record = Record::new();
+    assert!(source.read_record(&mut record).unwrap());
+    let error = source.read_record(&mut record).err().unwrap();
+    assert!(
+        matches!(
+            error,
+            DataError::TooManyFields {
+                row: Some(2),
+                line: 3,
+                ..
+            }
+        ),
+        "{error:?}"
+    );
+    assert!(
+        error.to_string().contains("more than 1048576 fields"),
+        "{error}"
+    );
+    // Just under the cap is a record like any other.
+    let mut bytes = b"id\n".to_vec();
+    bytes.extend(vec![b','; (1 << 20) - 1]);
+    let mut source = from_bytes(&bytes, &csv()).unwrap();
+    assert!(source.read_record(&mut record).unwrap());
+    assert_eq!(record.len(), 1 << 20);
+}
+
+#[test]
 fn an_unclosed_quote_stops_at_the_record_cap() {
     let mut bytes = b"id,note\n1,ok\n2,\"never closed\n".to_vec();
     bytes.extend(b"3,filler\n".repeat(100_000));

@@ -25,6 +25,11 @@ use super::DataError;
 /// Bytes read from the stream at a time.
 const CHUNK: usize = 64 * 1024;
 
+/// Fields a record may have: far beyond any survey file (the widest have tens of thousands of
+/// variables), and a bound on the memory of a line of nothing but delimiters, which the byte
+/// cap alone would allow to take eight bytes per delimiter.
+pub const MAX_FIELDS: usize = 1 << 20;
+
 pub(super) struct DelimitedReader {
     parser: csv_core::Reader,
     input: Box<dyn Read + Send>,
@@ -176,7 +181,15 @@ impl DelimitedReader {
                     raw.resize(grown, 0);
                 }
                 ReadRecordResult::OutputEndsFull => {
-                    let grown = ends.len().max(16) * 2;
+                    if ends.len() >= MAX_FIELDS {
+                        return Err(DataError::TooManyFields {
+                            path: name.to_string(),
+                            line: start_line.unwrap_or(self.parser.line()),
+                            row,
+                            limit: MAX_FIELDS,
+                        });
+                    }
+                    let grown = (ends.len().max(16) * 2).min(MAX_FIELDS);
                     ends.resize(grown, 0);
                 }
                 ReadRecordResult::Record => {

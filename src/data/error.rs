@@ -70,6 +70,18 @@ pub enum DataError {
         limit: u64,
     },
 
+    #[error("{path}: {}: a record has more than {limit} fields", place(*.line, *.row))]
+    #[diagnostic(
+        code(concord::data::too_many_fields),
+        help("check the [file] delimiter setting: a file read with the wrong delimiter, or a line of nothing but delimiters, splits into this many fields")
+    )]
+    TooManyFields {
+        path: String,
+        line: u64,
+        row: Option<u64>,
+        limit: usize,
+    },
+
     #[error("{path} is UTF-16 text, which concord does not read")]
     #[diagnostic(
         code(concord::data::utf16),
