@@ -40,9 +40,10 @@ report="$(mktemp)"
 timing="$(mktemp)"
 trap 'rm -f "$report" "$timing"' EXIT
 
-# measure CMD... -> prints "SECONDS RSS_KB" (fastest of $repeat runs; largest RSS seen)
+# measure CMD... -> prints "SECONDS RSS_KB CPU_SECONDS" (fastest of $repeat runs, its user +
+# system time; largest RSS seen)
 measure() {
-    local best="" rss=0 t r i
+    local best="" rss=0 cpu="" t r c i
     for ((i = 0; i < repeat; i++)); do
         set +e
         /usr/bin/time -v -o "$timing" "$@" >/dev/null 2>&1
@@ -56,27 +57,31 @@ measure() {
         t="$(awk -F': ' '/Elapsed \(wall clock\)/ {
                 n = split($2, p, ":"); s = 0; for (k = 1; k <= n; k++) s = s * 60 + p[k]; print s }' "$timing")"
         r="$(awk -F': ' '/Maximum resident set size/ {print $2}' "$timing")"
-        if [ -z "$best" ] || awk -v a="$t" -v b="$best" 'BEGIN{exit !(a < b)}'; then best="$t"; fi
+        c="$(awk -F': ' '/(User|System) time \(seconds\)/ {s += $2} END {print s}' "$timing")"
+        if [ -z "$best" ] || awk -v a="$t" -v b="$best" 'BEGIN{exit !(a < b)}'; then
+            best="$t"
+            cpu="$c"
+        fi
         [ "$r" -gt "$rss" ] && rss="$r"
     done
-    echo "$best $rss"
+    echo "$best $rss $cpu"
 }
 
-table="| rows | MB | codebook | concord s | MB/s | bare s | bare MB/s | ratio | concord peak RSS MB | bare peak RSS MB |
-| ---: | ---: | --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: |"
+table="| rows | MB | codebook | concord s | concord CPU s | MB/s | bare s | bare MB/s | ratio | concord peak RSS MB | bare peak RSS MB |
+| ---: | ---: | --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |"
 for n in "${sizes[@]}"; do
     data="$out/data-$n.csv"
     bytes="$(stat -c %s "$data")"
-    read -r bare_s bare_kb < <(measure "$bare" "$data")
+    read -r bare_s bare_kb _ < <(measure "$bare" "$data")
     for variant in id noid; do
         cb="$out/codebook.toml"
         [ "$variant" = noid ] && cb="$out/codebook-noid.toml"
-        read -r s kb < <(measure "$concord" check --format json -o "$report" "$cb" "$data")
-        row="$(awk -v n="$n" -v b="$bytes" -v v="$variant" -v s="$s" -v kb="$kb" \
+        read -r s kb cpu < <(measure "$concord" check --format json -o "$report" "$cb" "$data")
+        row="$(awk -v n="$n" -v b="$bytes" -v v="$variant" -v s="$s" -v kb="$kb" -v cpu="$cpu" \
                    -v bs="$bare_s" -v bkb="$bare_kb" 'BEGIN {
             mb = b / 1e6
-            printf "| %d | %.0f | %s | %.2f | %.0f | %.2f | %.0f | %.2f | %.1f | %.1f |", \
-                n, mb, (v == "id" ? "with id" : "without id"), s, mb / s, bs, mb / bs, s / bs, kb / 1024, bkb / 1024 }')"
+            printf "| %d | %.0f | %s | %.2f | %.2f | %.0f | %.2f | %.0f | %.2f | %.1f | %.1f |", \
+                n, mb, (v == "id" ? "with id" : "without id"), s, cpu, mb / s, bs, mb / bs, s / bs, kb / 1024, bkb / 1024 }')"
         table="$table
 $row"
         echo "$row" >&2
