@@ -568,3 +568,80 @@ fn large_files_read_like_the_csv_crate_with_true_lines() {
         }
     }
 }
+
+/// Differential fuzzing of the delimited reader: thousands of random byte strings made of the
+/// characters that matter to CSV (delimiters, quotes, CR, LF, spaces, multi-byte UTF-8 and
+/// bytes that are never UTF-8) are read by concord and by the csv crate's own reader (the
+/// general-purpose reference, no header, ragged rows allowed). Every record must have the
+/// same fields, as text where the record is UTF-8 and as the same lossy text where it is not,
+/// and nothing may panic.
+#[test]
+fn random_bytes_read_like_the_csv_crate() {
+    const ALPHABET: &[&[u8]] = &[
+        b"a",
+        b"b",
+        b"1",
+        b",",
+        b",",
+        b"\"",
+        b"\"",
+        b"\r",
+        b"\n",
+        b"\n",
+        b" ",
+        "é".as_bytes(),
+        "€".as_bytes(),
+        b"\xff",
+        b"\xc3",
+        b"\xa9",
+    ];
+    let mut state: u64 = 0x853c_49e6_748f_ea9b;
+    let mut next = move || {
+        // PCG-style LCG step (Knuth's MMIX constants).
+        state = state
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        state >> 33
+    };
+    let options = delimited(b',', b'"', false, Encoding::Utf8);
+    for case in 0..3000 {
+        let len = (next() % 200) as usize;
+        let mut bytes = Vec::new();
+        for _ in 0..len {
+            bytes.extend_from_slice(ALPHABET[(next() % ALPHABET.len() as u64) as usize]);
+        }
+        let got = match from_bytes(&bytes, &options) {
+            Ok(mut source) => read_all(&mut source),
+            // Only an input with no bytes at all is refused before reading.
+            Err(e) => {
+                assert!(bytes.is_empty(), "case {case}: {e} for {bytes:?}");
+                continue;
+            }
+        };
+        let mut reference = csv::ReaderBuilder::new()
+            .has_headers(false)
+            .flexible(true)
+            .from_reader(&bytes[..]);
+        let expected: Vec<(Vec<String>, bool)> = reference
+            .byte_records()
+            .map(|r| {
+                let r = r.unwrap();
+                let utf8 = r.iter().all(|f| std::str::from_utf8(f).is_ok());
+                let fields = r
+                    .iter()
+                    .map(|f| String::from_utf8_lossy(f).into_owned())
+                    .collect();
+                (fields, !utf8)
+            })
+            .collect();
+        assert_eq!(got.len(), expected.len(), "case {case}: {bytes:?}");
+        for (i, (seen, (fields, invalid))) in got.iter().zip(&expected).enumerate() {
+            assert_eq!(&seen.fields, fields, "case {case}, record {i}: {bytes:?}");
+            assert_eq!(
+                seen.invalid_utf8, *invalid,
+                "case {case}, record {i}: {bytes:?}"
+            );
+            assert_eq!(seen.row, i as u64 + 1);
+        }
+    }
+}
