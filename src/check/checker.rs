@@ -19,6 +19,8 @@ use super::plan::Plan;
 use super::route::{
     COUNTERS, FINDING, FINDING_RULES, GATE_UNKNOWN, INVALID, MISSING, SKIPPED, VALID,
 };
+
+const _: () = assert!(COUNTERS <= FINDING as usize);
 use super::row::ClassRow;
 use super::run::Pass;
 use super::tally::{Running, Tally};
@@ -48,9 +50,15 @@ struct FieldUse<'a> {
     categories: u32,
 }
 
-/// What the rows add up to, per variable.
+/// Counters of one column: the routing counters, then room up to [`FINDING`] so that any
+/// packed counter outcome indexes it without a bounds check.
+type Counters = [u64; FINDING as usize];
+
+/// What the rows add up to.
 struct Counts {
-    counters: Vec<[u64; COUNTERS]>,
+    /// Per record field (the loop walks fields and counters together); a variable's are at
+    /// its column's field.
+    counters: Vec<Counters>,
     /// Every variable's category counts, one after another.
     categories: Vec<u64>,
     /// Where each variable's category counts start.
@@ -128,7 +136,7 @@ impl<'a> RowChecker<'a> {
             rows: 0,
             findings: Findings::new(max_examples),
             counts: Counts {
-                counters: vec![[0; COUNTERS]; vars],
+                counters: vec![[0; FINDING as usize]; fields.len()],
                 categories: vec![0; total],
                 offsets,
                 stats: vec![Running::default(); vars],
@@ -169,28 +177,41 @@ impl<'a> RowChecker<'a> {
             return;
         }
 
-        for (text, field) in record.fields().zip(&self.fields) {
+        let Counts {
+            counters,
+            categories,
+            stats,
+            ..
+        } = &mut self.counts;
+        let walk = record.fields().zip(&self.fields).zip(counters.iter_mut());
+        for ((text, field), counter) in walk {
             if field.unused {
                 continue;
             }
             let var = field.var as usize;
-            let col = &plan.columns[var];
             let mut number = 0.0;
-            let class = classify_class(field.quick, col, text, &mut number);
+            let class = classify_class(field.quick, &plan.columns, var, text, &mut number);
             if field.kept {
                 self.classes[var] = class;
                 self.numbers[var] = number;
             }
-            if !field.routed {
-                let outcome = field.routes[class.tag()];
-                if outcome == VALID as u8 {
-                    self.counts.valid(field, class, number);
-                } else if outcome < FINDING {
-                    self.counts.counters[var][usize::from(outcome)] += 1;
-                } else {
-                    self.counts
-                        .finding(&mut self.findings, plan, var, outcome, record);
+            if field.routed {
+                continue;
+            }
+            let outcome = field.routes[class.tag()];
+            if outcome == VALID as u8 {
+                counter[VALID] += 1;
+                if field.statistics && class.is_number() {
+                    stats[var].push(number);
                 }
+                if let Some(c) = class.category() {
+                    categories[field.categories as usize + c as usize] += 1;
+                }
+            } else if outcome < FINDING {
+                counter[usize::from(outcome)] += 1;
+            } else {
+                counter[INVALID] += 1;
+                finding(&mut self.findings, plan, var, outcome, record);
             }
         }
         let view = ClassRow {
@@ -204,14 +225,21 @@ impl<'a> RowChecker<'a> {
             let universe = col.universe.as_ref().map_or(Tri::True, |u| u.eval(&view));
             let class = self.classes[var];
             let outcome = col.routes.under(universe)[class.tag()];
+            let f = col.field.expect("routed variables have a column");
+            let counter = &mut self.counts.counters[f];
             if outcome == VALID as u8 {
-                let field = &self.fields[col.field.expect("routed variables have a column")];
-                self.counts.valid(field, class, self.numbers[var]);
+                counter[VALID] += 1;
+                if col.statistics && class.is_number() {
+                    self.counts.stats[var].push(self.numbers[var]);
+                }
+                if let Some(c) = class.category() {
+                    self.counts.categories[self.fields[f].categories as usize + c as usize] += 1;
+                }
             } else if outcome < FINDING {
-                self.counts.counters[var][usize::from(outcome)] += 1;
+                counter[usize::from(outcome)] += 1;
             } else {
-                self.counts
-                    .finding(&mut self.findings, plan, var, outcome, record);
+                counter[INVALID] += 1;
+                finding(&mut self.findings, plan, var, outcome, record);
             }
         }
         for (i, check) in plan.checks.iter().enumerate() {
@@ -274,11 +302,14 @@ impl<'a> RowChecker<'a> {
             offsets,
             stats,
         } = self.counts;
-        let tallies = counters
+        let plan = self.plan;
+        let tallies = stats
             .into_iter()
-            .zip(stats)
             .enumerate()
-            .map(|(var, (c, stats))| {
+            .map(|(var, stats)| {
+                let c = plan.columns[var]
+                    .field
+                    .map_or([0; FINDING as usize], |f| counters[f]);
                 let start = offsets[var];
                 let end = offsets.get(var + 1).copied().unwrap_or(categories.len());
                 let categories = categories[start..end].to_vec();
@@ -305,42 +336,19 @@ impl<'a> RowChecker<'a> {
     }
 }
 
-impl Counts {
-    /// Count a valid cell.
-    #[inline(always)]
-    fn valid(&mut self, field: &FieldUse, class: Class, number: f64) {
-        let var = field.var as usize;
-        self.counters[var][VALID] += 1;
-        if field.statistics && class.is_number() {
-            self.stats[var].push(number);
-        }
-        if let Some(c) = class.category() {
-            self.categories[field.categories as usize + c as usize] += 1;
-        }
-    }
-
-    /// Count a cell of `var` that is a finding (`outcome` packed, at least [`FINDING`]).
-    #[cold]
-    #[inline(never)]
-    fn finding(
-        &mut self,
-        findings: &mut Findings,
-        plan: &Plan,
-        var: usize,
-        outcome: u8,
-        record: &Record,
-    ) {
-        self.counters[var][INVALID] += 1;
-        let rule = FINDING_RULES[usize::from(outcome - FINDING)];
-        findings.add(rule, Target::Variable(var), || Example {
-            row: Some(record.row()),
-            case: case_of(plan, record),
-            value: plan.columns[var]
-                .field
-                .and_then(|f| record.field(f))
-                .map(str::to_string),
-        });
-    }
+/// Report a cell of `var` that is a finding (`outcome` packed, at least [`FINDING`]).
+#[cold]
+#[inline(never)]
+fn finding(findings: &mut Findings, plan: &Plan, var: usize, outcome: u8, record: &Record) {
+    let rule = FINDING_RULES[usize::from(outcome - FINDING)];
+    findings.add(rule, Target::Variable(var), || Example {
+        row: Some(record.row()),
+        case: case_of(plan, record),
+        value: plan.columns[var]
+            .field
+            .and_then(|f| record.field(f))
+            .map(str::to_string),
+    });
 }
 
 /// A row-length problem of `record`, described.

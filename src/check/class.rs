@@ -154,10 +154,17 @@ impl Quick {
     }
 }
 
-/// Classify a cell of `col` as written (untrimmed), storing its number in `number` when it
-/// has one. `table` is the column's [`Quick::table`].
+/// Classify a cell of variable `var` as written (untrimmed), storing its number in `number`
+/// when it has one. `table` is the column's [`Quick::table`], passed apart so that the quick
+/// path does not touch the column's (large) plan.
 #[inline(always)]
-pub fn classify_class(table: &[Class], col: &ColumnPlan, text: &str, number: &mut f64) -> Class {
+pub fn classify_class(
+    table: &[Class],
+    columns: &[ColumnPlan],
+    var: usize,
+    text: &str,
+    number: &mut f64,
+) -> Class {
     let b = text.as_bytes();
     if b.is_empty() {
         return Class(BLANK);
@@ -175,6 +182,7 @@ pub fn classify_class(table: &[Class], col: &ColumnPlan, text: &str, number: &mu
             return table[n];
         }
     }
+    let col = &columns[var];
     if let Some(plain) = &col.quick.plain {
         if let Some(class) = classify_plain(plain, &col.quick.table, text, number) {
             return class;
@@ -322,7 +330,8 @@ kind = "text"
             for cell in &cells {
                 let (expected, category) = classify_counted(col, trim(cell));
                 let mut number = f64::NAN;
-                let class = classify_class(col.quick.table(), col, cell, &mut number);
+                let class =
+                    classify_class(col.quick.table(), &plan.columns, col.var, cell, &mut number);
                 assert_eq!(
                     class,
                     Class::new(expected, category),
