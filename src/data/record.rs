@@ -214,6 +214,20 @@ fn push_lossy(text: &mut String, bytes: &[u8]) {
     }
 }
 
+/// The field of a delimited record's `text` that runs from `start` (0, or the end of the
+/// field before) to `end` (its entry in `ends`).
+#[inline(always)]
+fn delimited_field(text: &str, start: usize, end: usize) -> &str {
+    debug_assert!(start <= end && text.is_char_boundary(start));
+    debug_assert!(end <= text.len() && text.is_char_boundary(end));
+    // SAFETY: `Record::set_delimited` made `text` hold the fields one after another with
+    // `ends` their ends in it, each one a character boundary (checked there, or true of ASCII
+    // text, or built so by the lossy copy), so 0 and consecutive ends delimit valid slices;
+    // callers pass exactly those. Unchecked because this is the innermost loop of every
+    // command: the checks cost more than the field.
+    unsafe { text.get_unchecked(start..end) }
+}
+
 /// The fields of a [`Record`] in order, from [`Record::fields`]. Walking them in order is
 /// cheaper than asking for each by index.
 pub struct Fields<'a>(FieldsInner<'a>);
@@ -240,14 +254,7 @@ impl<'a> Iterator for Fields<'a> {
             FieldsInner::Empty => None,
             FieldsInner::Ends { text, ends, start } => {
                 let end = *ends.next()?;
-                debug_assert!(*start <= end && text.is_char_boundary(*start));
-                debug_assert!(end <= text.len() && text.is_char_boundary(end));
-                // SAFETY: `Record::set_delimited` made `text` hold the fields one after
-                // another with `ends` their ends in it, each one a character boundary
-                // (checked there, or true of ASCII text, or built so by the lossy copy), so
-                // consecutive ends (from 0) delimit a valid slice. Unchecked because this is
-                // the innermost loop of every command: the checks cost more than the field.
-                let field = unsafe { text.get_unchecked(*start..end) };
+                let field = delimited_field(text, *start, end);
                 *start = end;
                 Some(field)
             }
