@@ -286,6 +286,51 @@ fn division_by_zero_is_missing_of_kind_other_and_counted() {
     );
 }
 
+/// Type-6 quantiles have no weighted form: with a dataset weight in the codebook they must be
+/// asked for unweighted, not quietly weighted by another definition.
+#[test]
+fn type_6_quantiles_with_a_dataset_weight_must_say_unweighted() {
+    let dir = tempfile::tempdir().unwrap();
+    let codebook = dir.path().join("codebook.toml");
+    fs::write(
+        &codebook,
+        "[dataset]\nname = \"q\"\nweight = \"wt\"\n\n[[variables]]\nname = \"x\"\nkind = \"numeric\"\n\n[[variables]]\nname = \"wt\"\nkind = \"numeric\"\n",
+    )
+    .unwrap();
+    let recodes = |extra: &str| {
+        let path = dir.path().join(format!("r{}.toml", extra.len()));
+        fs::write(
+            &path,
+            format!("[[derive]]\nname = \"xq\"\nfrom = \"x\"\nquantiles = 2\nquantile_type = 6\ncategories = [{{ code = 1, label = \"low\" }}, {{ code = 2, label = \"high\" }}]\n{extra}"),
+        )
+        .unwrap();
+        path
+    };
+    let data = dir.path().join("data.csv");
+    fs::write(&data, "x,wt\n1,1\n2,5\n3,1\n4,1\n").unwrap();
+    let out = dir.path().join("out.csv");
+
+    let (code, stdout, _) = run(&[&"recode", &codebook, &recodes("")]);
+    assert_eq!(code, 1, "{stdout}");
+    assert!(stdout.contains("recode.unweightable-quantiles"), "{stdout}");
+    assert!(stdout.contains("`wt` would weight them"), "{stdout}");
+    // Applying: the gate fails before anything is written.
+    let (code, _, _) = run(&[&"recode", &codebook, &recodes(""), &data, &"-o", &out]);
+    assert_eq!(code, 1);
+    assert!(!out.exists());
+    // Said unweighted: type-6 bands. On 1, 2, 3, 4 the type-6 median is 2.5 (Hyndman & Fan
+    // 1996, definition 6: position (n + 1) p = 2.5), so 1 and 2 fall in band 1.
+    let unweighted = recodes("weighted = false\n");
+    let (code, stdout, _) = run(&[&"recode", &codebook, &unweighted]);
+    assert_eq!(code, 0, "{stdout}");
+    let (code, stdout, _) = run(&[&"recode", &codebook, &unweighted, &data, &"-o", &out]);
+    assert_eq!(code, 0, "{stdout}");
+    let (header, rows) = read_csv(&out);
+    let xq = column(&header, "xq");
+    let bands: Vec<&str> = rows.iter().map(|r| r[xq].as_str()).collect();
+    assert_eq!(bands, ["1", "1", "2", "2"]);
+}
+
 #[test]
 fn a_computed_value_equal_to_a_missing_code_fails_the_gate() {
     let (code, output, _, out, _dir) = apply_fixture("computed-missing-code.toml", "division.csv");

@@ -12,6 +12,7 @@
 use super::intervals::Interval;
 use super::outputs::{self, Built};
 use super::plan::{DerivePlan, Plan, QuantilePlan, Rule, SourceRef};
+use super::quantile::QuantileType;
 use super::sources;
 use super::spec::{bands_of_cuts, Derive, Method, RecodeFile};
 use crate::codebook::model::{Code, Codebook, ConditionText, Kind, Variable};
@@ -482,7 +483,24 @@ impl Validator<'_> {
                     );
                     return None;
                 }
-                let weight = self.quantile_weight(d, weight.as_ref(), *weighted)?;
+                let mut weight = self.quantile_weight(d, weight.as_ref(), *weighted)?;
+                // An explicit weight with type 6 is refused when the file is read; the
+                // codebook's dataset weight only shows here.
+                if let (QuantileType::Six, Some(w)) = (kind, weight) {
+                    self.push(
+                        Diagnostic::new(
+                            "recode.unweightable-quantiles",
+                            format!(
+                                "`{}` asks for type-6 quantiles, which have no weighted form, but the codebook's dataset weight `{}` would weight them",
+                                d.name, self.codebook.variables[w].name
+                            ),
+                        )
+                        .at(d.method_place, "type 6 with a weight")
+                        .help("set `weighted = false` for unweighted type-6 quantiles, or drop `quantile_type = 6` for weighted type-7 ones"),
+                    );
+                    // Run anyway (`--fail-on never`), the bands are what the entry says.
+                    weight = None;
+                }
                 let codes = (1..=*bands)
                     .map(|k| {
                         (
