@@ -242,8 +242,8 @@ pub const RECODE_RULES: &[Rule] = &[
     rule("recode.unweightable-quantiles", Error, "type-6 quantiles with the codebook's dataset weight",
         "Type-6 quantiles (`quantile_type = 6`) have no weighted form in concord, and the codebook \
          names a dataset weight, which quantile bands use unless told otherwise. Say which you \
-         mean: `weighted = false` cuts unweighted type-6 quantiles; without `quantile_type = 6` \
-         the bands are weighted type-7 quantiles."),
+         mean: `weighted = false` cuts unweighted type-6 quantiles; `quantile_type = 7` (the \
+         default) or `1` cut weighted ones."),
     rule("recode.quantile-source", Error, "quantiles from a variable derived in the same file",
         "Quantile cut points are computed in a first pass over the data, before any derived value \
          exists. Their `from`, `weight` and `when` must read codebook variables, or variables \

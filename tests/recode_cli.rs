@@ -286,6 +286,110 @@ fn division_by_zero_is_missing_of_kind_other_and_counted() {
     );
 }
 
+/// Type 1 (the inverse of the empirical distribution function), unweighted and weighted,
+/// against numpy (PyPI), a general-purpose reference: `numpy.quantile(method="inverted_cdf")`,
+/// with `weights=` for the weighted form (numpy 2.0 and later). Cut points must be equal to
+/// the last bit, and so must every case's band (`numpy.digitize(x, cuts, right=True)` numbers
+/// right-closed bands). Runs when numpy is importable; under CI=true it must.
+#[test]
+fn type_1_quantile_bands_match_numpy_weighted_and_not() {
+    let probe = "import numpy as np; np.quantile([1.0, 2.0], 0.5, weights=[1.0, 1.0], method='inverted_cdf')";
+    if python(probe).is_none() {
+        assert!(
+            std::env::var("CI").as_deref() != Ok("true"),
+            "numpy >= 2.0 is not importable, but CI=true requires this test to run (pip install numpy)"
+        );
+        eprintln!("skipped: numpy >= 2.0 not importable");
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let values = sample(613);
+    let mut state: u64 = 0x1234_5678_9abc_def1;
+    let mut data = String::from("id,x,w\n");
+    for (i, v) in values.iter().enumerate() {
+        state = state
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        let w = 0.1 + ((state >> 33) % 30_000) as f64 / 10_000.0;
+        data.push_str(&format!("C{i},{v},{w:.4}\n"));
+    }
+    fs::write(dir.path().join("data.csv"), &data).unwrap();
+    fs::write(
+        dir.path().join("codebook.toml"),
+        "[dataset]\nname = \"numpy\"\nid = [\"id\"]\nweight = \"w\"\n\n[[variables]]\nname = \"id\"\nkind = \"identifier\"\n\n\
+         [[variables]]\nname = \"x\"\nkind = \"numeric\"\nrange = { min = 0, max = 100 }\ndecimals = 2\n\n\
+         [[variables]]\nname = \"w\"\nkind = \"numeric\"\nrange = { min = 0, max = 10 }\ndecimals = 4\n",
+    )
+    .unwrap();
+    let labels = (1..=5)
+        .map(|k| format!("{{ code = {k}, label = \"band {k}\" }}"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let recodes = format!(
+        "[[derive]]\nname = \"q1\"\nfrom = \"x\"\nquantiles = 5\nquantile_type = 1\nweighted = false\ncategories = [{labels}]\n\n\
+         [[derive]]\nname = \"q1w\"\nfrom = \"x\"\nquantiles = 5\nquantile_type = 1\ncategories = [{labels}]\n"
+    );
+    fs::write(dir.path().join("recodes.toml"), recodes).unwrap();
+    let out = dir.path().join("out.csv");
+    let audit = dir.path().join("audit.json");
+    let (code, stdout, stderr) = run(&[
+        &"recode",
+        &dir.path().join("codebook.toml"),
+        &dir.path().join("recodes.toml"),
+        &dir.path().join("data.csv"),
+        &"-o",
+        &out,
+        &"--audit",
+        &audit,
+    ]);
+    assert_eq!(code, 0, "{stdout}\n{stderr}");
+    let script = format!(
+        r#"
+import csv, json, numpy as np
+rows = list(csv.DictReader(open({data:?})))
+x = np.array([float(r["x"]) for r in rows])
+w = np.array([float(r["w"]) for r in rows])
+p = [j / 5 for j in range(1, 5)]
+out = {{}}
+for name, weights in [("q1", None), ("q1w", w)]:
+    cuts = np.quantile(x, p, method="inverted_cdf", weights=weights)
+    out[name] = {{"cuts": [float(c) for c in cuts],
+                  "bands": [int(b) + 1 for b in np.digitize(x, cuts, right=True)]}}
+print(json.dumps(out))
+"#,
+        data = dir.path().join("data.csv").display().to_string()
+    );
+    let numpy: Json =
+        serde_json::from_str(&python(&script).expect("the numpy script runs")).unwrap();
+    let audit: Json = serde_json::from_str(&fs::read_to_string(&audit).unwrap()).unwrap();
+    let (header, rows) = read_csv(&out);
+    for name in ["q1", "q1w"] {
+        let table = audit["audit"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| t["name"] == name)
+            .unwrap_or_else(|| panic!("no audit table for {name}: {audit}"));
+        assert_eq!(
+            table["cut_points"], numpy[name]["cuts"],
+            "{name} cut points"
+        );
+        let col = column(&header, name);
+        let ours: Vec<i64> = rows.iter().map(|r| r[col].parse().unwrap()).collect();
+        let theirs: Vec<i64> = numpy[name]["bands"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|b| b.as_i64().unwrap())
+            .collect();
+        assert_eq!(ours, theirs, "{name} bands");
+    }
+    assert_ne!(
+        numpy["q1"]["cuts"], numpy["q1w"]["cuts"],
+        "the weights move the cut points"
+    );
+}
+
 /// Type-6 quantiles have no weighted form: with a dataset weight in the codebook they must be
 /// asked for unweighted, not quietly weighted by another definition.
 #[test]

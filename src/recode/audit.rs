@@ -216,7 +216,7 @@ pub struct AuditTable {
     /// Computed quantile cut points.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub cut_points: Option<Vec<f64>>,
-    /// Quantile type (6 or 7) and whether weighted, for quantile bands.
+    /// Quantile type (1, 6 or 7) and whether weighted, for quantile bands.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub quantile_type: Option<u8>,
     #[serde(skip_serializing_if = "Option::is_none")]

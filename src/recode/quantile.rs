@@ -10,6 +10,10 @@
 //!   x(floor h) and x(floor h + 1).
 //! - **type 6** (`quantile_type = 6`; numpy `method="weibull"`, the definition the NIST/SEMATECH
 //!   e-Handbook uses): position h = (n + 1) p, clamped to the first and last value.
+//! - **type 1** (`quantile_type = 1`; numpy `method="inverted_cdf"`): the inverse of the
+//!   empirical distribution function, the smallest x(k) with k/n >= p; it never interpolates.
+//!   Its weighted form replaces k/n by the share of the weight at or below x(k), which is what
+//!   numpy computes with `weights=` (the one method numpy weights).
 //!
 //! **Weighted type 7.** With a weight, each sorted value x(k) with weight w(k) > 0 gets the
 //! plotting position
@@ -28,6 +32,7 @@
 /// Which of Hyndman and Fan's definitions.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum QuantileType {
+    One,
     Six,
     #[default]
     Seven,
@@ -36,6 +41,7 @@ pub enum QuantileType {
 impl QuantileType {
     pub fn number(self) -> u8 {
         match self {
+            QuantileType::One => 1,
             QuantileType::Six => 6,
             QuantileType::Seven => 7,
         }
@@ -66,6 +72,14 @@ pub fn quantile(sorted: &[f64], p: f64, kind: QuantileType) -> Option<f64> {
     let v = match kind {
         QuantileType::Seven => (n - 1) as f64 * p,
         QuantileType::Six => (n + 1) as f64 * p - 1.0,
+        QuantileType::One => {
+            // The order statistic at index n p - 1, rounded up unless it is whole (numpy's
+            // `inverted_cdf`, with the same floating-point index).
+            let v = n as f64 * p - 1.0;
+            let below = v.floor();
+            let i = if v == below { below } else { below + 1.0 };
+            return Some(sorted[(i.max(0.0) as usize).min(n - 1)]);
+        }
     };
     if v <= 0.0 {
         return Some(sorted[0]);
@@ -134,6 +148,9 @@ pub fn cut_points(
     }
     values.sort_by(|a, b| a.0.total_cmp(&b.0));
     let probabilities = (1..bands).map(|j| j as f64 / bands as f64);
+    if weighted && kind == QuantileType::One {
+        return inverted_cdf(&values, probabilities);
+    }
     if weighted {
         let Some(positions) = positions(&values) else {
             return Vec::new();
@@ -147,6 +164,28 @@ pub fn cut_points(
             .filter_map(|p| quantile(&sorted, p, kind))
             .collect()
     }
+}
+
+/// Weighted type 1 at each of `probabilities` (increasing), in one pass: the smallest value
+/// whose running share of the weight reaches p, the share computed as numpy does (running
+/// total over the total, both summed in sorted order).
+fn inverted_cdf(sorted: &[(f64, f64)], probabilities: impl Iterator<Item = f64>) -> Vec<f64> {
+    let total: f64 = sorted.iter().map(|(_, w)| w).sum();
+    if sorted.is_empty() {
+        return Vec::new();
+    }
+    // `running` is the weight of the first `k` values; each cut is the last of the fewest
+    // values whose share reaches p (or the largest value, should rounding leave it short).
+    let (mut k, mut running) = (0, 0.0);
+    probabilities
+        .map(|p| {
+            while k < sorted.len() && (k == 0 || running / total < p) {
+                running += sorted[k].1;
+                k += 1;
+            }
+            sorted[k - 1].0
+        })
+        .collect()
 }
 
 #[cfg(test)]
@@ -215,6 +254,36 @@ mod tests {
         for (a, b) in q.iter().zip(r.iter().rev()) {
             assert!(close(*a, -*b, 1e-12), "{q:?} vs {r:?}");
         }
+    }
+
+    /// Hyndman & Fan (1996) definition 1 on 1..10: the quartiles are x(3), x(5), x(8), the
+    /// smallest values with k/n >= p (worked by hand from the definition).
+    #[test]
+    fn type_1_is_the_inverse_of_the_empirical_distribution() {
+        let x: Vec<f64> = (1..=10).map(f64::from).collect();
+        for (p, want) in [
+            (0.25, 3.0),
+            (0.5, 5.0),
+            (0.75, 8.0),
+            (0.1, 1.0),
+            (1.0, 10.0),
+        ] {
+            assert_eq!(quantile(&x, p, QuantileType::One), Some(want), "at {p}");
+        }
+        // Weighted, with equal weights: the same cut points.
+        let pairs: Vec<(f64, f64)> = x.iter().map(|&v| (v, 0.5)).collect();
+        assert_eq!(
+            cut_points(pairs, 4, QuantileType::One, true),
+            cut_points(
+                x.iter().map(|&v| (v, 1.0)).collect(),
+                4,
+                QuantileType::One,
+                false
+            )
+        );
+        // A weight of 3 on the smallest of four values makes it the median.
+        let heavy = vec![(1.0, 3.0), (2.0, 1.0), (3.0, 1.0), (4.0, 1.0)];
+        assert_eq!(cut_points(heavy, 2, QuantileType::One, true), [1.0]);
     }
 
     #[test]

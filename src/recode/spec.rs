@@ -536,10 +536,14 @@ impl Reader<'_> {
             let kind = match raw.quantile_type.as_ref().map(|t| (*t.get_ref(), t.span())) {
                 None | Some((7, _)) => QuantileType::Seven,
                 Some((6, _)) => QuantileType::Six,
+                Some((1, _)) => QuantileType::One,
                 Some((_, span)) => {
                     return Err(self
-                        .error_at(span, "`quantile_type` must be 6 or 7 (Hyndman & Fan 1996)")
-                        .with_help("7 is the default of R and numpy; 6 is numpy's `weibull`"))
+                        .error_at(
+                            span,
+                            "`quantile_type` must be 1, 6 or 7 (Hyndman & Fan 1996)",
+                        )
+                        .with_help("7 is the default of R and numpy; 6 is numpy's `weibull`; 1 is numpy's `inverted_cdf`"))
                 }
             };
             let weighted = raw.weighted.as_ref().map(|w| *w.get_ref());
@@ -550,7 +554,7 @@ impl Reader<'_> {
                             w.span(),
                             "type-6 quantiles have no weighted form in concord",
                         )
-                        .with_help("drop `quantile_type = 6` or set `weighted = false`"));
+                        .with_help("set `weighted = false`, or choose a type with a weighted form: 7 (the default) or 1"));
                 }
             }
             return Ok((

@@ -496,7 +496,7 @@ impl Validator<'_> {
                             ),
                         )
                         .at(d.method_place, "type 6 with a weight")
-                        .help("set `weighted = false` for unweighted type-6 quantiles, or drop `quantile_type = 6` for weighted type-7 ones"),
+                        .help("set `weighted = false` for unweighted type-6 quantiles, or choose a type with a weighted form: 7 (the default) or 1"),
                     );
                     // Run anyway (`--fail-on never`), the bands are what the entry says.
                     weight = None;
