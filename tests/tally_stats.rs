@@ -5,7 +5,7 @@
 
 mod support;
 
-use support::python;
+use support::{numpy_with_weights, python};
 
 use std::process::Command;
 
@@ -165,23 +165,6 @@ fn running_mean_and_sd_match_nist_strd() {
 }
 
 // ---- numpy as an outside reference ----
-
-/// Whether numpy with weighted quantiles (numpy 2.0 and later) is importable. When it is not,
-/// the caller skips with a message; under CI=true that is a failure.
-fn numpy_with_weights() -> bool {
-    let probe = "import numpy as np; np.quantile([1.0, 2.0], 0.5, weights=[1.0, 1.0], \
-                 method='inverted_cdf')";
-    if python(probe).is_some() {
-        return true;
-    }
-    assert!(
-        std::env::var("CI").as_deref() != Ok("true"),
-        "numpy >= 2.0 (quantile with weights) is not importable, but CI=true requires this \
-         test to run (pip install numpy)"
-    );
-    eprintln!("skipped: numpy >= 2.0 (quantile with weights) not importable");
-    false
-}
 
 /// A deterministic sample of `n` (value, weight) pairs: a 64-bit linear congruential
 /// generator (Knuth's MMIX constants). Values are quarters from 0 to 49.75, so a sample of a
