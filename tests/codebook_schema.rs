@@ -13,6 +13,10 @@
 //!   (`# expect-error-at: /json/pointer`) names;
 //! - the valid fixtures in `tests/fixtures/codebooks/` together use every key of the schema.
 
+mod support;
+
+use support::toml_to_json;
+
 use std::collections::BTreeSet;
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -40,26 +44,6 @@ fn schema() -> Json {
 fn validator() -> Validator {
     jsonschema::draft202012::new(&schema())
         .unwrap_or_else(|e| panic!("the codebook schema does not compile: {e}"))
-}
-
-/// TOML -> JSON: tables become objects, datetimes their TOML text (`2025-03-01`). A float
-/// that JSON cannot hold (nan, inf) becomes null, which the schema rejects wherever a number
-/// is expected.
-fn toml_to_json(value: toml::Value) -> Json {
-    match value {
-        toml::Value::String(s) => Json::String(s),
-        toml::Value::Integer(i) => Json::from(i),
-        toml::Value::Float(f) => serde_json::Number::from_f64(f).map_or(Json::Null, Json::Number),
-        toml::Value::Boolean(b) => Json::Bool(b),
-        toml::Value::Datetime(dt) => Json::String(dt.to_string()),
-        toml::Value::Array(items) => Json::Array(items.into_iter().map(toml_to_json).collect()),
-        toml::Value::Table(table) => Json::Object(
-            table
-                .into_iter()
-                .map(|(k, v)| (k, toml_to_json(v)))
-                .collect(),
-        ),
-    }
 }
 
 fn read_codebook(path: &Path) -> (String, Json) {

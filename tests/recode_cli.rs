@@ -354,15 +354,7 @@ print(json.dumps(out))
             table["cut_points"], numpy[name]["cuts"],
             "{name} cut points"
         );
-        let col = column(&header, name);
-        let ours: Vec<i64> = rows.iter().map(|r| r[col].parse().unwrap()).collect();
-        let theirs: Vec<i64> = numpy[name]["bands"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .map(|b| b.as_i64().unwrap())
-            .collect();
-        assert_eq!(ours, theirs, "{name} bands");
+        assert_bands(&header, &rows, &numpy, name);
     }
     assert_ne!(
         numpy["q1"]["cuts"], numpy["q1w"]["cuts"],
@@ -438,6 +430,19 @@ fn a_computed_value_equal_to_a_missing_code_fails_the_gate() {
 }
 
 // ---- numpy as an outside reference ----
+
+/// Every case's band in column `name` of the output equals numpy's (`numpy[name]["bands"]`).
+fn assert_bands(header: &[String], rows: &[Vec<String>], numpy: &Json, name: &str) {
+    let col = column(header, name);
+    let ours: Vec<i64> = rows.iter().map(|r| r[col].parse().unwrap()).collect();
+    let theirs: Vec<i64> = numpy[name]["bands"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|b| b.as_i64().unwrap())
+        .collect();
+    assert_eq!(ours, theirs, "{name}: bands differ from numpy");
+}
 
 /// Apply `recodes` to `codebook.toml` and `data.csv` in `dir`, which must succeed; returns the
 /// output file and the audit, parsed.
@@ -539,15 +544,7 @@ print(json.dumps(out))
         serde_json::from_str(&python(&script).expect("the numpy script runs")).unwrap();
     let (header, rows) = read_csv(&out);
     for name in ["q7", "q6", "q7_left", "cut_right", "cut_left"] {
-        let col = column(&header, name);
-        let ours: Vec<i64> = rows.iter().map(|r| r[col].parse().unwrap()).collect();
-        let theirs: Vec<i64> = numpy[name]["bands"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .map(|b| b.as_i64().unwrap())
-            .collect();
-        assert_eq!(ours, theirs, "{name}: bands differ from numpy");
+        assert_bands(&header, &rows, &numpy, name);
         if let Some(cuts) = numpy[name]["cuts"].as_array() {
             let table = audit["audit"]
                 .as_array()

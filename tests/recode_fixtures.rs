@@ -7,6 +7,10 @@
 //! validates it with `jsonschema`, a general-purpose JSON Schema validator, as an editor
 //! would; it does not use concord's reader.
 
+mod support;
+
+use support::toml_to_json;
+
 use std::fs;
 use std::path::{Path, PathBuf};
 
@@ -121,23 +125,6 @@ fn every_recode_rule_except_data_only_ones_has_a_fixture() {
             "no fixture expects {}",
             rule.id
         );
-    }
-}
-
-fn toml_to_json(value: toml::Value) -> Json {
-    match value {
-        toml::Value::String(s) => Json::String(s),
-        toml::Value::Integer(i) => Json::from(i),
-        toml::Value::Float(f) => serde_json::Number::from_f64(f).map_or(Json::Null, Json::Number),
-        toml::Value::Boolean(b) => Json::Bool(b),
-        toml::Value::Datetime(dt) => Json::String(dt.to_string()),
-        toml::Value::Array(items) => Json::Array(items.into_iter().map(toml_to_json).collect()),
-        toml::Value::Table(table) => Json::Object(
-            table
-                .into_iter()
-                .map(|(k, v)| (k, toml_to_json(v)))
-                .collect(),
-        ),
     }
 }
 

@@ -243,3 +243,23 @@ pub fn numpy_with_weights() -> bool {
     eprintln!("skipped: numpy >= 2.0 (quantile with weights) not importable");
     false
 }
+
+/// TOML -> JSON: tables become objects, datetimes their TOML text (`2025-03-01`). A float
+/// that JSON cannot hold (nan, inf) becomes null, which the schema rejects wherever a number
+/// is expected.
+pub fn toml_to_json(value: toml::Value) -> Json {
+    match value {
+        toml::Value::String(s) => Json::String(s),
+        toml::Value::Integer(i) => Json::from(i),
+        toml::Value::Float(f) => serde_json::Number::from_f64(f).map_or(Json::Null, Json::Number),
+        toml::Value::Boolean(b) => Json::Bool(b),
+        toml::Value::Datetime(dt) => Json::String(dt.to_string()),
+        toml::Value::Array(items) => Json::Array(items.into_iter().map(toml_to_json).collect()),
+        toml::Value::Table(table) => Json::Object(
+            table
+                .into_iter()
+                .map(|(k, v)| (k, toml_to_json(v)))
+                .collect(),
+        ),
+    }
+}
