@@ -10,6 +10,15 @@
 //! ragged rows passed through for the checker to report, and a cap on record size so an
 //! unclosed quote cannot swallow the whole file into memory.
 //!
+//! Most survey lines hold no quote character at all, and their fields are then exactly the
+//! pieces between delimiters. Such a line, when it lies whole in the buffer and the parser
+//! is at the start of a record, is split directly (`memchr` finds its end and checks it for
+//! quotes and carriage returns): the line is stored as it is, in one copy, and the parser
+//! is told only that a line went by. Every other line (quoted fields, a lone CR, an empty
+//! line, invalid UTF-8, a line across a buffer boundary, the first record, which may start
+//! with a byte order mark) goes through `csv-core`. The two paths give the same records; a
+//! differential test holds them to the csv crate's reader.
+//!
 //! Empty lines follow `csv-core`: a line with no bytes at all is skipped and is not a record
 //! (so it takes no row number, though physical line numbers still count it). A line holding
 //! only spaces, or only `""`, is a record with one field.
@@ -41,6 +50,12 @@ pub(super) struct DelimitedReader {
     limit: u64,
     headers: Option<Vec<String>>,
     rows: u64,
+    delimiter: u8,
+    quote: u8,
+    /// The parser stands at the start of a record with nothing pending (not straight after
+    /// a CR that a LF may follow, not before the first record): a plain line may be split
+    /// without it.
+    at_line_start: bool,
 }
 
 impl DelimitedReader {
@@ -66,6 +81,9 @@ impl DelimitedReader {
             limit,
             headers: None,
             rows: 0,
+            delimiter,
+            quote,
+            at_line_start: false,
         };
         if header {
             let mut record = Record::new();
@@ -142,6 +160,9 @@ impl DelimitedReader {
         record: &mut Record,
         row: Option<u64>,
     ) -> Result<bool, DataError> {
+        if self.at_line_start && self.split_plain_line(record) {
+            return Ok(true);
+        }
         let (raw, ends) = record.delimited_buffers();
         let (mut out, mut nends) = (0, 0);
         // Line of the record's first byte: found when the first byte that is not a line
@@ -193,6 +214,9 @@ impl DelimitedReader {
                     ends.resize(grown, 0);
                 }
                 ReadRecordResult::Record => {
+                    // A record that ended on a LF leaves the parser clean; one that ended on
+                    // a CR leaves it waiting to swallow a LF.
+                    self.at_line_start = nin > 0 && input[nin - 1] == b'\n';
                     let line = start_line.unwrap_or(self.parser.line());
                     record.set_delimited(out, nends, line);
                     return Ok(true);
@@ -203,6 +227,41 @@ impl DelimitedReader {
                 }
             }
         }
+    }
+}
+
+impl DelimitedReader {
+    /// Read the next line as a record without the parser if it is plain: whole in the
+    /// buffer, not empty, valid UTF-8, within the size cap, and free of the quote character
+    /// and of carriage returns (but for one before its LF). False leaves everything as it
+    /// was for the parser to read.
+    #[inline]
+    fn split_plain_line(&mut self, record: &mut Record) -> bool {
+        if !self.delimiter.is_ascii() || !self.quote.is_ascii() {
+            return false;
+        }
+        let input = &self.buf[self.pos..self.len];
+        let Some(lf) = memchr::memchr(b'\n', input) else {
+            return false;
+        };
+        let line = match &input[..lf] {
+            [text @ .., b'\r'] => text,
+            text => text,
+        };
+        if line.is_empty()
+            || lf as u64 >= self.limit
+            || memchr::memchr2(self.quote, b'\r', line).is_some()
+        {
+            return false;
+        }
+        let Ok(text) = std::str::from_utf8(line) else {
+            return false;
+        };
+        let number = self.parser.line();
+        record.set_split_line(text, self.delimiter, number);
+        self.parser.set_line(number + 1);
+        self.pos += lf + 1;
+        true
     }
 }
 
