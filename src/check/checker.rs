@@ -276,7 +276,24 @@ impl<'a> RowChecker<'a> {
         }
     }
 
-    /// Add what `other` counted (rows checked elsewhere) to this checker.
+    /// Hand over the running statistics of the rows checked since the last call (a chunk
+    /// of the file) in `out`, and start afresh. The caller combines chunks in file order,
+    /// so the result does not depend on which thread checked which chunk.
+    pub fn take_statistics(&mut self, out: &mut Vec<Running>) {
+        out.clear();
+        out.resize(self.counts.stats.len(), Running::default());
+        std::mem::swap(&mut self.counts.stats, out);
+    }
+
+    /// Put the statistics of the whole file, combined by the caller, in place for
+    /// [`finish`](Self::finish).
+    pub fn set_statistics(&mut self, stats: Vec<Running>) {
+        debug_assert_eq!(stats.len(), self.counts.stats.len());
+        self.counts.stats = stats;
+    }
+
+    /// Add what `other` counted (rows checked elsewhere) to this checker. Statistics are
+    /// not merged here: they are taken chunk by chunk ([`take_statistics`](Self::take_statistics)).
     pub fn merge(&mut self, other: RowChecker) {
         self.rows += other.rows;
         self.findings.merge(other.findings);
@@ -289,9 +306,7 @@ impl<'a> RowChecker<'a> {
         for (x, y) in mine.categories.iter_mut().zip(theirs.categories) {
             *x += y;
         }
-        for (a, b) in mine.stats.iter_mut().zip(theirs.stats) {
-            a.merge(&b);
-        }
+        debug_assert!(theirs.stats.iter().all(|s| s.count == 0));
     }
 
     /// The counts as tallies, for the report.

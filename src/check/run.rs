@@ -1,24 +1,28 @@
 //! The pass over the records: read them, check each with a [`RowChecker`], and add up.
 //!
 //! Small files are read and checked on one thread. Larger ones (and standard input or gzip,
-//! whose size is unknown) use three threads: a reader that parses records and classifies
-//! their keys in file order (a repeat is the second occurrence, so keys cannot be split),
-//! and [`WORKERS`] checkers that take batches of records in turn. Each checker counts its
-//! own rows; at the end their counts are merged in a fixed order, so the result does not
-//! depend on timing. Batches circulate between the threads and are reused, so memory stays
-//! bounded whatever the file size.
+//! whose size is unknown) are read by this thread, which parses records and classifies their
+//! keys in file order (a repeat is the second occurrence, so keys cannot be split), into
+//! batches that checking threads take as they come free. When they are all busy and the
+//! queue is full the reader checks a batch itself, so every core stays at work whichever
+//! of reading and checking costs more for the file at hand. Batches circulate and are
+//! reused, so memory stays bounded whatever the file size.
 //!
-//! Counts, categories and findings come out the same on either path (examples are the
-//! first by row). Means and standard deviations of a pipelined run are merged from the
-//! checkers' running statistics and can differ from a one-thread run in the last bits.
+//! Which thread checks which batch depends on timing, so nothing may depend on it. Counts,
+//! categories and findings add up (examples are the first by row). Running statistics do
+//! not add up exactly in floating point, so they are taken per batch, on either path, and
+//! combined in file order: a file gives the same means and standard deviations to the last
+//! bit on any machine, on one thread or many.
 
-use std::sync::mpsc;
+use std::collections::BTreeMap;
+use std::sync::mpsc::{self, TrySendError};
+use std::sync::Mutex;
 
 use super::checker::RowChecker;
 use super::findings::Findings;
 use super::keys::{KeyStatus, Keys};
 use super::plan::Plan;
-use super::tally::Tally;
+use super::tally::{Running, Tally};
 use crate::codebook::model::Codebook;
 use crate::data::{DataError, Record, RecordSource};
 
@@ -35,11 +39,14 @@ pub type Progress<'a> = &'a mut dyn FnMut(u64);
 /// Below this many bytes a file is checked on one thread: starting threads is not worth it.
 const PIPELINE_MIN_BYTES: u64 = 4 * 1024 * 1024;
 
-/// Checking threads of a pipelined run. Fixed, not the number of cores, so that a file's
-/// statistics are merged the same way on every machine.
-const WORKERS: usize = 2;
+/// Most checking threads a pipelined run starts (besides the reader, which also checks).
+const MAX_CHECKERS: usize = 7;
 
-/// Records handed from the reader to a checker at a time.
+/// Batches the reader may queue ahead of the checkers before it checks one itself.
+const QUEUED_BATCHES: usize = 2;
+
+/// Records handed from the reader to a checker at a time, and the rows whose statistics
+/// are taken together (on one thread too, so both paths combine them alike).
 const BATCH_RECORDS: usize = 256;
 
 /// How the pass is run.
@@ -75,44 +82,89 @@ pub fn run(
     let mut checker = RowChecker::new(codebook, plan, max_examples);
     let mut keys = Keys::default();
     let mut record = Record::new();
+    let mut combined = InOrder::default();
+    let mut chunk = Vec::new();
     while source.read_record(&mut record)? {
         checker.rows += 1;
-        if checker.rows % 65_536 == 0 {
-            progress(source.bytes_read());
-        }
         let key = keys.status(plan, &record);
         checker.check(&record, key);
+        if checker.rows % BATCH_RECORDS as u64 == 0 {
+            checker.take_statistics(&mut chunk);
+            combined.add(checker.rows / BATCH_RECORDS as u64 - 1, &mut chunk);
+            if checker.rows % 65_536 == 0 {
+                progress(source.bytes_read());
+            }
+        }
     }
+    checker.take_statistics(&mut chunk);
+    combined.add(checker.rows / BATCH_RECORDS as u64, &mut chunk);
     progress(source.bytes_read());
+    checker.set_statistics(combined.finish());
     Ok(checker.finish())
 }
 
-/// A batch of records read ahead by the reader thread.
+/// Running statistics of batches, combined in file order whatever order they come in.
+#[derive(Default)]
+struct InOrder {
+    total: Vec<Running>,
+    next: u64,
+    waiting: BTreeMap<u64, Vec<Running>>,
+}
+
+impl InOrder {
+    /// Add the statistics of batch `seq` (numbered from 0), taking them out of `stats`.
+    fn add(&mut self, seq: u64, stats: &mut Vec<Running>) {
+        self.waiting.insert(seq, std::mem::take(stats));
+        while let Some(stats) = self.waiting.remove(&self.next) {
+            if self.total.is_empty() {
+                self.total = stats;
+            } else {
+                for (total, part) in self.total.iter_mut().zip(&stats) {
+                    total.merge(part);
+                }
+            }
+            self.next += 1;
+        }
+    }
+
+    fn finish(self) -> Vec<Running> {
+        debug_assert!(self.waiting.is_empty(), "a batch's statistics went missing");
+        self.total
+    }
+}
+
+/// A batch of records read ahead by the reader.
 struct Batch {
+    /// Its place in the file: batches are numbered from 0.
+    seq: u64,
     /// Reused from batch to batch; only the first `len` hold records of this batch.
     records: Vec<Record>,
     /// The key of each record, classified by the reader.
     keys: Vec<KeyStatus>,
     len: usize,
-    /// `source.bytes_read()` after the batch, for the progress bar.
-    bytes_read: u64,
-    /// Set on the last batch: the end of the file, or the error that stopped reading.
-    end: Option<Result<(), DataError>>,
+    /// The running statistics of this batch's rows, once checked.
+    stats: Vec<Running>,
 }
 
 impl Batch {
     fn new() -> Batch {
         Batch {
+            seq: 0,
             records: Vec::with_capacity(BATCH_RECORDS),
             keys: Vec::with_capacity(BATCH_RECORDS),
             len: 0,
-            bytes_read: 0,
-            end: None,
+            stats: Vec::new(),
         }
     }
 
-    /// Read up to [`BATCH_RECORDS`] records, classifying their keys.
-    fn fill(&mut self, source: &mut RecordSource, plan: &Plan, keys: &mut Keys) {
+    /// Read up to [`BATCH_RECORDS`] records, classifying their keys. `Some` at the end of
+    /// the input: the end of the file, or the error that stopped reading.
+    fn fill(
+        &mut self,
+        source: &mut RecordSource,
+        plan: &Plan,
+        keys: &mut Keys,
+    ) -> Option<Result<(), DataError>> {
         self.len = 0;
         self.keys.clear();
         while self.len < BATCH_RECORDS {
@@ -125,25 +177,21 @@ impl Batch {
                     self.keys.push(keys.status(plan, record));
                     self.len += 1;
                 }
-                Ok(false) => {
-                    self.end = Some(Ok(()));
-                    break;
-                }
-                Err(e) => {
-                    self.end = Some(Err(e));
-                    break;
-                }
+                Ok(false) => return Some(Ok(())),
+                Err(e) => return Some(Err(e)),
             }
         }
-        self.bytes_read = source.bytes_read();
+        None
     }
-}
 
-/// What one checking thread ends with.
-struct Worked<'a> {
-    checker: RowChecker<'a>,
-    /// The end of the input, if the last batch came to this thread.
-    end: Option<Result<(), DataError>>,
+    /// Check the batch's records, and keep their statistics in the batch.
+    fn check(&mut self, checker: &mut RowChecker) {
+        for (record, &key) in self.records[..self.len].iter().zip(&self.keys) {
+            checker.rows += 1;
+            checker.check(record, key);
+        }
+        checker.take_statistics(&mut self.stats);
+    }
 }
 
 fn pipelined(
@@ -153,82 +201,100 @@ fn pipelined(
     max_examples: usize,
     progress: Progress,
 ) -> Result<Pass, DataError> {
-    // Emptied batches come back here for reuse...
-    let (empty_tx, empty_rx) = mpsc::channel::<Batch>();
-    // ...and full ones go to the checkers in turn (the reader blocks when it is far ahead).
-    let (full_txs, mut full_rxs): (Vec<_>, Vec<_>) =
-        (0..WORKERS).map(|_| mpsc::sync_channel::<Batch>(2)).unzip();
+    let checkers = std::thread::available_parallelism()
+        .map_or(1, |n| n.get().saturating_sub(1))
+        .clamp(1, MAX_CHECKERS);
+    // Full batches go to whichever checker is free...
+    let (full_tx, full_rx) = mpsc::sync_channel::<Batch>(QUEUED_BATCHES);
+    let full_rx = Mutex::new(full_rx);
+    // ...and come back here, checked, for their statistics and for reuse.
+    let (done_tx, done_rx) = mpsc::channel::<Batch>();
     // Each checker gets its own copy of the plan: a regular expression keeps a cache that is
     // quick only for the thread that used it first.
-    let copies: Vec<Plan> = (1..WORKERS).map(|_| plan.clone()).collect();
+    let copies: Vec<Plan> = (0..checkers).map(|_| plan.clone()).collect();
     std::thread::scope(|scope| {
-        scope.spawn(move || {
-            let mut keys = Keys::default();
-            for turn in (0..WORKERS).cycle() {
-                let mut batch = empty_rx.try_recv().unwrap_or_else(|_| Batch::new());
-                batch.fill(source, plan, &mut keys);
-                let last = batch.end.is_some();
-                // A send fails only when that checker has stopped listening.
-                if full_txs[turn].send(batch).is_err() || last {
-                    return;
-                }
-            }
-        });
-        let first = full_rxs.remove(0);
-        let others: Vec<_> = full_rxs
-            .into_iter()
-            .zip(&copies)
-            .map(|(rx, plan)| {
-                let empty_tx = empty_tx.clone();
-                scope.spawn(move || work(codebook, plan, max_examples, &rx, &empty_tx, &mut |_| {}))
+        let threads: Vec<_> = copies
+            .iter()
+            .map(|plan| {
+                let (full_rx, done_tx) = (&full_rx, done_tx.clone());
+                scope.spawn(move || work(codebook, plan, max_examples, full_rx, &done_tx))
             })
             .collect();
-        // This thread is the first checker, and keeps the progress bar.
-        let Worked {
-            mut checker,
-            mut end,
-        } = work(codebook, plan, max_examples, &first, &empty_tx, progress);
-        for other in others {
+        drop(done_tx);
+        let mut keys = Keys::default();
+        let mut mine = RowChecker::new(codebook, plan, max_examples);
+        let mut combined = InOrder::default();
+        let mut spare: Option<Batch> = None;
+        let mut seq = 0;
+        let end = loop {
+            let mut batch = match spare.take().or_else(|| done_rx.try_recv().ok()) {
+                Some(mut batch) => {
+                    combined.add(batch.seq, &mut batch.stats);
+                    batch
+                }
+                None => Batch::new(),
+            };
+            let end = batch.fill(source, plan, &mut keys);
+            batch.seq = seq;
+            seq += 1;
+            if seq % 128 == 0 {
+                progress(source.bytes_read());
+            }
+            match full_tx.try_send(batch) {
+                Ok(()) => {}
+                Err(TrySendError::Full(mut batch)) => {
+                    batch.check(&mut mine);
+                    spare = Some(batch);
+                }
+                // Every checker has stopped, which only a panic does; joining raises it.
+                Err(TrySendError::Disconnected(_)) => break Some(Ok(())),
+            }
+            if end.is_some() {
+                break end;
+            }
+        };
+        drop(full_tx);
+        for thread in threads {
             // A checker that panicked: raise it here, as the scope would.
-            let worked = other
+            let checker = thread
                 .join()
                 .unwrap_or_else(|p| std::panic::resume_unwind(p));
-            checker.merge(worked.checker);
-            end = end.or(worked.end);
+            mine.merge(checker);
         }
-        // No last batch means the reader panicked; the scope raises that when it ends.
-        end.unwrap_or(Ok(())).map(|()| checker.finish())
+        if let Some(mut batch) = spare {
+            combined.add(batch.seq, &mut batch.stats);
+        }
+        for mut batch in done_rx.try_iter() {
+            combined.add(batch.seq, &mut batch.stats);
+        }
+        progress(source.bytes_read());
+        end.unwrap_or(Ok(())).map(|()| {
+            mine.set_statistics(combined.finish());
+            mine.finish()
+        })
     })
 }
 
-/// Check the batches arriving on `full` until the reader stops.
+/// Check the batches arriving on `full`, sending each back on `done`, until the reader
+/// stops.
 fn work<'a>(
     codebook: &'a Codebook,
     plan: &'a Plan,
     max_examples: usize,
-    full: &mpsc::Receiver<Batch>,
-    empty: &mpsc::Sender<Batch>,
-    progress: Progress,
-) -> Worked<'a> {
+    full: &Mutex<mpsc::Receiver<Batch>>,
+    done: &mpsc::Sender<Batch>,
+) -> RowChecker<'a> {
     let mut checker = RowChecker::new(codebook, plan, max_examples);
-    let mut end = None;
-    let mut batches = 0u64;
-    for mut batch in full.iter() {
-        for (record, &key) in batch.records[..batch.len].iter().zip(&batch.keys) {
-            checker.rows += 1;
-            checker.check(record, key);
+    loop {
+        // Another checker can only have poisoned the lock by panicking, which the reader
+        // raises when it joins that thread; the receiver itself is sound.
+        let next = full.lock().unwrap_or_else(|p| p.into_inner()).recv();
+        let Ok(mut batch) = next else {
+            return checker;
+        };
+        batch.check(&mut checker);
+        if done.send(batch).is_err() {
+            return checker;
         }
-        batches += 1;
-        if batches % 128 == 0 {
-            progress(batch.bytes_read);
-        }
-        if let Some(last) = batch.end.take() {
-            progress(batch.bytes_read);
-            end = Some(last);
-            break;
-        }
-        // The reader may have stopped already; then the batch is simply dropped.
-        let _ = empty.send(batch);
     }
-    Worked { checker, end }
 }
