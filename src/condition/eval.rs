@@ -87,7 +87,7 @@ impl Compiled {
 
     /// Evaluate a condition. An arithmetic expression has no truth value and gives
     /// `Unknown`; check [`Compiled::is_condition`] at compile time.
-    pub fn eval(&self, row: &dyn Row) -> Tri {
+    pub fn eval<R: Row + ?Sized>(&self, row: &R) -> Tri {
         match &self.program {
             Program::Condition(condition) => condition.eval(row),
             Program::Number(_) => Tri::Unknown,
@@ -96,7 +96,7 @@ impl Compiled {
 
     /// Evaluate an arithmetic expression. `None` means missing: a missing input, division
     /// by zero or a result that is not a finite number. A condition gives `None`.
-    pub fn eval_number(&self, row: &dyn Row) -> Option<f64> {
+    pub fn eval_number<R: Row + ?Sized>(&self, row: &R) -> Option<f64> {
         match &self.program {
             Program::Number(number) => number.eval(row),
             Program::Condition(_) => None,
@@ -105,7 +105,7 @@ impl Compiled {
 }
 
 /// Whether the row holds a value of the variable's kind; anything else reads as missing.
-fn present(row: &dyn Row, var: usize, var_type: VarType) -> bool {
+fn present<R: Row + ?Sized>(row: &R, var: usize, var_type: VarType) -> bool {
     matches!(
         (row.value(var), var_type),
         (Value::Number(_), VarType::Number | VarType::Date) | (Value::Text(_), VarType::Text)
@@ -113,7 +113,7 @@ fn present(row: &dyn Row, var: usize, var_type: VarType) -> bool {
 }
 
 impl Condition {
-    pub(crate) fn eval(&self, row: &dyn Row) -> Tri {
+    pub(crate) fn eval<R: Row + ?Sized>(&self, row: &R) -> Tri {
         match self {
             // Kleene's connectives; the right side is skipped when the left decides.
             Condition::And(left, right) => match left.eval(row) {
@@ -166,7 +166,7 @@ impl Number {
     /// [`Number::eval`] with its two commonest cases (a variable, a constant: most
     /// conditions compare one with the other) inline, not behind a recursive call.
     #[inline(always)]
-    fn eval_leaf(&self, row: &dyn Row) -> Option<f64> {
+    fn eval_leaf<R: Row + ?Sized>(&self, row: &R) -> Option<f64> {
         match self {
             Number::Constant(value) => value.is_finite().then_some(*value),
             Number::Variable(var) => match row.value(*var) {
@@ -177,7 +177,7 @@ impl Number {
         }
     }
 
-    pub(crate) fn eval(&self, row: &dyn Row) -> Option<f64> {
+    pub(crate) fn eval<R: Row + ?Sized>(&self, row: &R) -> Option<f64> {
         let result = match self {
             Number::Constant(value) => *value,
             Number::Variable(var) => match row.value(*var) {
@@ -201,7 +201,7 @@ impl Number {
 }
 
 impl Text {
-    fn eval<'a>(&'a self, row: &'a dyn Row) -> Option<&'a str> {
+    fn eval<'a, R: Row + ?Sized>(&'a self, row: &'a R) -> Option<&'a str> {
         match self {
             Text::Constant(text) => Some(text),
             Text::Variable(var) => match row.value(*var) {
