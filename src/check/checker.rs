@@ -5,14 +5,16 @@
 //! Cells of routed variables wait until every cell is classified, because a universe reads
 //! other cells (and a cell with a value finding counts as missing there); then the checks
 //! run. Buffers are reused from row to row and nothing allocates unless a finding keeps an
-//! example.
+//! example. Most cells are short codes of variables that only need counting; for those
+//! fields each short whole number's counter and category slot are worked out when the
+//! checker is made (an [`Action`]), so such a cell costs a parse and two increments.
 //!
 //! A [`RowChecker`] holds only what the rows add up to, so several can check parts of one
 //! file on different threads and be [merged](RowChecker::merge) afterwards. Keys are the
 //! exception: repeats depend on file order, so the caller classifies them ([`super::keys`])
 //! and hands the result in.
 
-use super::class::{classify_class, Class, TAGS};
+use super::class::{classify_class, short_whole, Class, TAGS};
 use super::findings::{Example, Findings, Target};
 use super::keys::{key_text, KeyStatus};
 use super::plan::Plan;
@@ -48,7 +50,21 @@ struct FieldUse<'a> {
     statistics: bool,
     /// Where the variable's category counts start in `Counts::categories`.
     categories: u32,
+    /// Where the field's [actions](Action) start in `RowChecker::actions`, and how many
+    /// (0: none, every cell goes the general way).
+    actions: u32,
+    actions_len: u32,
 }
+
+/// What a short whole number in a field comes to, decided once per field and number for a
+/// field whose cells need nothing but counting (no universe, not read by a condition, no
+/// statistics): the counter to add to, and the category slot (the sink slot when none).
+/// [`SLOW`] marks numbers that need more (a finding with its example); they, and every cell
+/// that is not a short whole number, go the general way.
+type Action = u32;
+const SLOW: Action = 1 << 4;
+const ACTION_COUNTER: Action = 0xf;
+const ACTION_SLOT_SHIFT: u32 = 5;
 
 /// Counters of one column: the routing counters, then room up to [`FINDING`] so that any
 /// packed counter outcome indexes it without a bounds check.
@@ -77,6 +93,8 @@ pub struct RowChecker<'a> {
     numbers: Vec<f64>,
     /// Per record field.
     fields: Vec<FieldUse<'a>>,
+    /// Every field's actions, one field after another.
+    actions: Vec<Action>,
     /// Variables with a universe and a column.
     routed: Vec<usize>,
     key_text: String,
@@ -99,6 +117,8 @@ impl<'a> RowChecker<'a> {
             kept: false,
             statistics: false,
             categories: 0,
+            actions: 0,
+            actions_len: 0,
         };
         let mut read = vec![false; plan.columns.len()];
         let conditions = plan.columns.iter().filter_map(|c| c.universe.as_ref());
@@ -126,8 +146,31 @@ impl<'a> RowChecker<'a> {
                     kept: read[col.var] || col.universe.is_some(),
                     statistics: col.statistics,
                     categories: offsets[col.var] as u32,
+                    actions: 0,
+                    actions_len: 0,
                 };
             }
+        }
+        // The last category slot is a sink for cells that count towards no category.
+        let sink = total;
+        let mut actions = Vec::new();
+        for field in fields.iter_mut() {
+            if field.unused || field.kept || field.routed || field.statistics {
+                continue;
+            }
+            field.actions = actions.len() as u32;
+            field.actions_len = field.quick.len() as u32;
+            actions.extend(field.quick.iter().map(|class| {
+                let outcome = field.routes[class.tag()];
+                match class.category() {
+                    _ if outcome >= FINDING => SLOW,
+                    Some(c) if outcome == VALID as u8 => {
+                        let slot = field.categories as usize + c as usize;
+                        (slot as Action) << ACTION_SLOT_SHIFT
+                    }
+                    _ => Action::from(outcome) | (sink as Action) << ACTION_SLOT_SHIFT,
+                }
+            }));
         }
         let vars = plan.columns.len();
         RowChecker {
@@ -137,7 +180,7 @@ impl<'a> RowChecker<'a> {
             findings: Findings::new(max_examples),
             counts: Counts {
                 counters: vec![[0; FINDING as usize]; fields.len()],
-                categories: vec![0; total],
+                categories: vec![0; total + 1],
                 offsets,
                 stats: vec![Running::default(); vars],
             },
@@ -145,6 +188,7 @@ impl<'a> RowChecker<'a> {
             classes: vec![Class::NOT_ASCERTAINED; vars],
             numbers: vec![0.0; vars],
             fields,
+            actions,
             routed: plan
                 .columns
                 .iter()
@@ -185,6 +229,16 @@ impl<'a> RowChecker<'a> {
         } = &mut self.counts;
         let walk = record.fields().zip(&self.fields).zip(counters.iter_mut());
         for ((text, field), counter) in walk {
+            if field.actions_len != 0 {
+                if let Some(n) = short_whole(text).filter(|&n| n < field.actions_len as usize) {
+                    let action = self.actions[field.actions as usize + n];
+                    if action & SLOW == 0 {
+                        counter[(action & ACTION_COUNTER) as usize] += 1;
+                        categories[(action >> ACTION_SLOT_SHIFT) as usize] += 1;
+                        continue;
+                    }
+                }
+            }
             if field.unused {
                 continue;
             }
@@ -326,7 +380,11 @@ impl<'a> RowChecker<'a> {
                     .field
                     .map_or([0; FINDING as usize], |f| counters[f]);
                 let start = offsets[var];
-                let end = offsets.get(var + 1).copied().unwrap_or(categories.len());
+                // (The last slot is the sink.)
+                let end = offsets
+                    .get(var + 1)
+                    .copied()
+                    .unwrap_or(categories.len() - 1);
                 let categories = categories[start..end].to_vec();
                 let mut missing = [0; 5];
                 for (k, slot) in missing.iter_mut().enumerate().skip(1) {

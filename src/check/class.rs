@@ -154,6 +154,24 @@ impl Quick {
     }
 }
 
+/// A cell of one to four digits and nothing else, as a number: the cells a [`Quick`] table
+/// answers.
+#[inline(always)]
+pub fn short_whole(text: &str) -> Option<usize> {
+    let b = text.as_bytes();
+    if b.is_empty() || b.len() > 4 {
+        return None;
+    }
+    let mut n = 0usize;
+    let mut digits = true;
+    for &c in b {
+        let d = c.wrapping_sub(b'0');
+        digits &= d < 10;
+        n = n * 10 + usize::from(d);
+    }
+    digits.then_some(n)
+}
+
 /// Classify a cell of variable `var` as written (untrimmed), storing its number in `number`
 /// when it has one. `table` is the column's [`Quick::table`], passed apart so that the quick
 /// path does not touch the column's (large) plan.
@@ -165,19 +183,11 @@ pub fn classify_class(
     text: &str,
     number: &mut f64,
 ) -> Class {
-    let b = text.as_bytes();
-    if b.is_empty() {
+    if text.is_empty() {
         return Class(BLANK);
     }
-    if b.len() <= 4 && !table.is_empty() {
-        let mut n = 0usize;
-        let mut digits = true;
-        for &c in b {
-            let d = c.wrapping_sub(b'0');
-            digits &= d < 10;
-            n = n * 10 + usize::from(d);
-        }
-        if digits && n < table.len() {
+    if !table.is_empty() {
+        if let Some(n) = short_whole(text).filter(|&n| n < table.len()) {
             *number = n as f64;
             return table[n];
         }
