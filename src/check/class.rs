@@ -220,7 +220,7 @@ fn classify_plain(plain: &Plain, table: &[Class], text: &str, number: &mut f64) 
         Some(_) => {}
         // A whole number written too long for `whole` (`0000000000000001`) can still be a
         // code of the table.
-        None if n >= 0.0 && n as usize as f64 == n && (n as usize) < table.len() => return None,
+        None if n >= 0.0 && n < table.len() as f64 && n.fract() == 0.0 => return None,
         None => {}
     }
     if let Some(&(_, class)) = plain.extra.iter().find(|(code, _)| *code == n) {

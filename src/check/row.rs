@@ -44,7 +44,7 @@ pub struct ClassRow<'a> {
 }
 
 impl Row for ClassRow<'_> {
-    #[inline]
+    #[inline(always)]
     fn value(&self, var: usize) -> Value<'_> {
         match self.classes.get(var) {
             Some(c) if c.is_number() => Value::Number(self.numbers[var]),
