@@ -154,8 +154,10 @@ impl<'a> RowChecker<'a> {
         // The last category slot is a sink for cells that count towards no category.
         let sink = total;
         let mut actions = Vec::new();
+        // (Slots must fit an action's bits: far beyond any codebook, but checked.)
+        let slots_fit = (sink as u64) < 1 << (32 - ACTION_SLOT_SHIFT);
         for field in fields.iter_mut() {
-            if field.unused || field.kept || field.routed || field.statistics {
+            if !slots_fit || field.unused || field.kept || field.routed || field.statistics {
                 continue;
             }
             field.actions = actions.len() as u32;
