@@ -112,19 +112,29 @@ struct InOrder {
 }
 
 impl InOrder {
-    /// Add the statistics of batch `seq` (numbered from 0), taking them out of `stats`.
+    /// Add the statistics of batch `seq` (numbered from 0). The next batch in order is
+    /// combined at once and `stats` left for reuse; one that comes early is kept (taken out
+    /// of `stats`) until the batches before it have come.
     fn add(&mut self, seq: u64, stats: &mut Vec<Running>) {
-        self.waiting.insert(seq, std::mem::take(stats));
-        while let Some(stats) = self.waiting.remove(&self.next) {
-            if self.total.is_empty() {
-                self.total = stats;
-            } else {
-                for (total, part) in self.total.iter_mut().zip(&stats) {
-                    total.merge(part);
-                }
-            }
-            self.next += 1;
+        if seq != self.next {
+            self.waiting.insert(seq, std::mem::take(stats));
+            return;
         }
+        self.combine(stats);
+        while let Some(stats) = self.waiting.remove(&self.next) {
+            self.combine(&stats);
+        }
+    }
+
+    fn combine(&mut self, stats: &[Running]) {
+        if self.total.is_empty() {
+            self.total = stats.to_vec();
+        } else {
+            for (total, part) in self.total.iter_mut().zip(stats) {
+                total.merge(part);
+            }
+        }
+        self.next += 1;
     }
 
     fn finish(self) -> Vec<Running> {
