@@ -193,7 +193,8 @@ pub fn report(
                 by_group = Some(group_means(&acc, &levels, &order, weighted, &mut disclose));
             } else {
                 let table = cross(variable, &acc, &levels, &order, weighted, &mut disclose);
-                let (table, withheld) = with_test(table, &acc, &order, &mut disclose, &mut notes);
+                let (table, withheld) =
+                    with_test(table, &acc, &order, weighted, &mut disclose, &mut notes);
                 test_withheld = withheld;
                 crosstab = Some(table);
                 let event = event.or((variable.categories.len() == 2).then_some(0));

@@ -134,14 +134,17 @@ pub(super) fn cross(
         total: grand.n,
         weighted_total: weighted.then_some(grand.w),
         chi_square: None,
+        rao_scott: None,
     }
 }
 
-/// Add the chi-square test unless a suppressed cell would make it a way back to the counts.
+/// Add the chi-square test (and, for a weighted table, its design-adjusted form) unless a
+/// suppressed cell would make it a way back to the counts.
 pub(super) fn with_test(
     mut table: Crosstab,
     acc: &Accumulated,
     order: &[usize],
+    weighted: bool,
     disclose: &mut Disclose,
     notes: &mut Vec<String>,
 ) -> (Crosstab, bool) {
@@ -168,6 +171,33 @@ pub(super) fn with_test(
         ));
     }
     notes.push("the chi-square test uses the unweighted counts".to_string());
+    if weighted {
+        let sums = |f: fn(&Count) -> f64| -> Vec<Vec<f64>> {
+            (0..rows)
+                .map(|r| order.iter().map(|&c| f(&acc.cross[c][r])).collect())
+                .collect()
+        };
+        let n = counts.iter().flatten().sum();
+        match stats::rao_scott(&sums(|c| c.w), &sums(|c| c.w2), n) {
+            Some(t) => {
+                notes.push(
+                    "the Rao-Scott test (first-order correction) allows for the unequal weights, \
+                     each case taken as sampled on its own; it does not allow for clusters or \
+                     strata"
+                        .to_string(),
+                );
+                table.rao_scott = Some(RaoScott {
+                    statistic: t.statistic,
+                    design_effect: t.design_effect,
+                    corrected: t.corrected,
+                    df: t.df,
+                    p_value: t.p_value,
+                });
+            }
+            None => notes
+                .push("no Rao-Scott test: fewer than two rows or columns carry weight".to_string()),
+        }
+    }
     table.chi_square = Some(ChiSquare {
         statistic: test.statistic,
         df: test.df,

@@ -189,6 +189,9 @@ pub struct Crosstab {
     pub total: u64,
     pub weighted_total: Option<f64>,
     pub chi_square: Option<ChiSquare>,
+    /// For a weighted table: the test on the weighted proportions, corrected for the
+    /// weights' design effect.
+    pub rao_scott: Option<RaoScott>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -202,6 +205,21 @@ pub struct ChiSquare {
     pub cells: u64,
     /// Cochran's rule is broken: more than 20% of expected counts below 5, or any below 1.
     pub cochran_warning: bool,
+}
+
+/// Pearson's statistic on the weighted proportions with the first-order Rao-Scott correction
+/// (see [`crate::tables::stats::rao_scott`]): the weights' design effect only, each case
+/// taken as sampled on its own; not clusters or strata.
+#[derive(Debug, Clone, Serialize)]
+pub struct RaoScott {
+    /// Pearson's statistic on the weighted proportions, scaled to the number of cases.
+    pub statistic: f64,
+    /// Mean generalised design effect of the weights.
+    pub design_effect: f64,
+    /// `statistic / design_effect`, the test statistic.
+    pub corrected: f64,
+    pub df: u64,
+    pub p_value: f64,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]

@@ -3,7 +3,7 @@
 
 use crate::tables::model::*;
 
-const HEADER: [&str; 41] = [
+const HEADER: [&str; 42] = [
     "table",
     "var",
     "var_code",
@@ -43,6 +43,7 @@ const HEADER: [&str; 41] = [
     "df",
     "p_value",
     "cramers_v",
+    "design_effect",
     "small",
     "suppressed",
 ];
@@ -169,6 +170,16 @@ pub fn csv(report: &TallyReport) -> String {
                 .count("df", Some(t.df))
                 .float("p_value", Some(t.p_value))
                 .float("cramers_v", t.cramers_v);
+            lines.push(line);
+        }
+        if let Some(t) = &c.rao_scott {
+            let mut line = Line::new("rao-scott", report);
+            line.set("row_kind", "test")
+                .count("n", Some(c.total))
+                .float("chi_square", Some(t.corrected))
+                .count("df", Some(t.df))
+                .float("p_value", Some(t.p_value))
+                .float("design_effect", Some(t.design_effect));
             lines.push(line);
         }
     }

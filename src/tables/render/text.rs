@@ -98,6 +98,17 @@ fn render(report: &TallyReport, style: Style) -> String {
                 c.total,
             );
         }
+        if let Some(test) = &c.rao_scott {
+            let _ = writeln!(
+                out,
+                "Rao-Scott chi-square {:.3}, df {}, p = {} (weighted proportions, first-order \
+                 correction for a design effect of {:.3} from the weights)",
+                test.corrected,
+                test.df,
+                grid::p_value(test.p_value),
+                test.design_effect,
+            );
+        }
     }
     if let Some(g) = &report.by_group {
         let heading = match (&g.statistic, &g.event) {

@@ -1,0 +1,272 @@
+//! The design-adjusted test of independence for weighted tables (first-order Rao-Scott),
+//! checked against what lies outside it: Pearson's statistic on Agresti's published table,
+//! Kish's design effect of the weights, the NIST/SEMATECH chi-square critical values, and its
+//! own calibration under independence; then through the binary in every format.
+
+mod support;
+
+use std::process::Command;
+
+use concord::tables::stats::{chi_square, chi_square_critical, rao_scott};
+use serde_json::Value as Json;
+
+fn close(actual: f64, expected: f64, tolerance: f64, what: &str) {
+    assert!(
+        (actual - expected).abs() <= tolerance,
+        "{what}: expected {expected}, got {actual}"
+    );
+}
+
+fn as_f64(table: &[Vec<u64>]) -> Vec<Vec<f64>> {
+    table
+        .iter()
+        .map(|r| r.iter().map(|&x| x as f64).collect())
+        .collect()
+}
+
+#[test]
+fn with_unit_weights_the_statistic_is_pearsons() {
+    // Agresti (2007) An Introduction to Categorical Data Analysis, 2nd ed., p.39: gender by
+    // party identification, chi-square 30.070149 on 2 df. With every weight 1 the weighted
+    // proportions are the count proportions, so the uncorrected statistic is Pearson's.
+    let table = vec![vec![762, 327, 468], vec![484, 239, 477]];
+    let n = table.iter().flatten().sum();
+    let counts = as_f64(&table);
+    let test = rao_scott(&counts, &counts, n).unwrap();
+    close(test.statistic, 30.070149, 1e-6, "Agresti p.39 statistic");
+    assert_eq!(test.df, 2);
+    close(
+        test.statistic,
+        chi_square(&table).unwrap().statistic,
+        1e-9,
+        "against the unweighted Pearson test",
+    );
+    // Unit weights are a simple random sample drawn with replacement: the design effect is
+    // near 1 (not exactly: it is estimated from the table, with the n / (n - 1) factor).
+    assert!(
+        (0.95..1.05).contains(&test.design_effect),
+        "{}",
+        test.design_effect
+    );
+}
+
+#[test]
+fn an_independent_table_with_unit_weights_has_design_effect_n_over_n_minus_1() {
+    // Worked by hand from the definition: when the proportions are exactly independent the
+    // linearised expectation of X^2 under multinomial sampling is the df, times the
+    // with-replacement variance factor n / (n - 1).
+    let table = vec![vec![8, 16], vec![12, 24]];
+    let counts = as_f64(&table);
+    let test = rao_scott(&counts, &counts, 60).unwrap();
+    close(test.statistic, 0.0, 1e-12, "independent table");
+    close(test.design_effect, 60.0 / 59.0, 1e-12, "n / (n - 1)");
+}
+
+#[test]
+fn weights_unrelated_to_the_table_give_kishs_design_effect() {
+    // Kish (1965) Survey Sampling; Kish (1992) J. Official Statistics 8(2):183-200: the toy
+    // weights (1, 1, 1, 3) have deff = n sum w^2 / (sum w)^2 = 4/3. Every cell holds its cases
+    // in fours weighted 1, 1, 1, 3, so the weights are unrelated to the table and the design
+    // effect is Kish's times that of unit weights.
+    let table = vec![vec![8, 16, 4], vec![12, 24, 36]];
+    let n: u64 = table.iter().flatten().sum();
+    let unit = as_f64(&table);
+    let w: Vec<Vec<f64>> = unit
+        .iter()
+        .map(|r| r.iter().map(|x| x / 4.0 * 6.0).collect())
+        .collect();
+    let w2: Vec<Vec<f64>> = unit
+        .iter()
+        .map(|r| r.iter().map(|x| x / 4.0 * 12.0).collect())
+        .collect();
+    let plain = rao_scott(&unit, &unit, n).unwrap();
+    let weighted = rao_scott(&w, &w2, n).unwrap();
+    close(
+        weighted.design_effect / plain.design_effect,
+        4.0 / 3.0,
+        1e-12,
+        "Kish's toy deff",
+    );
+    // The weighted proportions are the same, so the uncorrected statistic is too, and the
+    // corrected one is smaller by Kish's factor.
+    close(
+        weighted.statistic,
+        plain.statistic,
+        1e-9,
+        "same proportions",
+    );
+    close(
+        plain.corrected / weighted.corrected,
+        4.0 / 3.0,
+        1e-12,
+        "corrected",
+    );
+}
+
+#[test]
+fn scaling_the_weights_changes_nothing() {
+    // Common practice: design weights summing to the population and the same weights scaled
+    // to mean 1 describe the same design.
+    let w = vec![vec![3.5, 1.25, 7.0], vec![2.0, 9.5, 0.75]];
+    let w2 = vec![vec![4.5, 1.0, 30.0], vec![2.5, 50.0, 0.5]];
+    let a = rao_scott(&w, &w2, 40).unwrap();
+    let scale = |m: &[Vec<f64>], f: f64| -> Vec<Vec<f64>> {
+        m.iter()
+            .map(|r| r.iter().map(|x| x * f).collect())
+            .collect()
+    };
+    let b = rao_scott(&scale(&w, 1000.0), &scale(&w2, 1e6), 40).unwrap();
+    close(a.design_effect, b.design_effect, 1e-9, "design effect");
+    close(a.corrected, b.corrected, 1e-9, "corrected statistic");
+}
+
+#[test]
+fn empty_rows_and_columns_are_left_out_and_degenerate_tables_refused() {
+    let w = vec![
+        vec![5.0, 0.0, 3.0],
+        vec![0.0, 0.0, 0.0],
+        vec![2.0, 0.0, 6.0],
+    ];
+    let test = rao_scott(&w, &w, 16).unwrap();
+    assert_eq!(test.df, 1, "one row and one column carry no weight");
+    assert!(rao_scott(&[vec![1.0, 2.0]], &[vec![1.0, 2.0]], 3).is_none());
+    assert!(rao_scott(&w, &w, 1).is_none(), "one case");
+    assert!(rao_scott(&w, &w[..2], 16).is_none(), "shapes differ");
+    let negative = vec![vec![1.0, -1.0], vec![1.0, 1.0]];
+    let squares = vec![vec![1.0, 1.0], vec![1.0, 1.0]];
+    assert!(rao_scott(&squares, &squares, 4).is_some());
+    assert!(
+        rao_scott(&negative, &squares, 4).is_none(),
+        "a negative weight"
+    );
+}
+
+/// A small deterministic generator (xorshift64*, Vigna 2016) for the simulation below.
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> f64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        (self.0.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
+
+#[test]
+fn the_corrected_test_holds_its_size_under_independence() {
+    // Calibration: two independent variables (2 and 3 categories), half the cases weighted 1
+    // and half 9 at random, so weighting alone inflates Pearson's statistic by about Kish's
+    // deff 1.64. At the 5% level (critical value 5.991 for 2 df, NIST/SEMATECH e-Handbook
+    // 1.3.6.7.4) the corrected test must reject about 5% of 4000 samples of 400 cases; the
+    // uncorrected statistic on the weighted proportions rejects far more often.
+    let critical = chi_square_critical(2.0, 0.05).unwrap();
+    close(critical, 5.991, 5e-4, "NIST df 2, alpha .05");
+    let mut rng = Rng(0x9e37_79b9_7f4a_7c15);
+    let (replicates, n) = (4000, 400);
+    let (mut corrected, mut naive) = (0, 0);
+    for _ in 0..replicates {
+        let mut w = vec![vec![0.0; 3]; 2];
+        let mut w2 = vec![vec![0.0; 3]; 2];
+        for _ in 0..n {
+            let row = usize::from(rng.next() < 0.4);
+            let u = rng.next();
+            let column = if u < 0.2 {
+                0
+            } else if u < 0.5 {
+                1
+            } else {
+                2
+            };
+            let weight = if rng.next() < 0.5 { 1.0 } else { 9.0 };
+            w[row][column] += weight;
+            w2[row][column] += weight * weight;
+        }
+        let test = rao_scott(&w, &w2, n).unwrap();
+        corrected += u32::from(test.corrected > critical);
+        naive += u32::from(test.statistic > critical);
+    }
+    let size = f64::from(corrected) / replicates as f64;
+    let naive_size = f64::from(naive) / replicates as f64;
+    assert!(
+        (0.035..=0.065).contains(&size),
+        "corrected test size {size}"
+    );
+    assert!(naive_size > 0.12, "uncorrected size {naive_size}");
+}
+
+fn tally(args: &[&str]) -> std::process::Output {
+    let root = support::root();
+    Command::new(env!("CARGO_BIN_EXE_concord"))
+        .arg("tally")
+        .arg(root.join("demo-data/codebook.toml"))
+        .arg(root.join("demo-data/wave1.csv"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn weighted_cross_tabulations_carry_the_test_in_every_format() {
+    let out = tally(&["fuel", "--by", "district", "--format", "json"]);
+    assert!(out.status.success(), "{out:?}");
+    let json: Json = serde_json::from_slice(&out.stdout).unwrap();
+    let test = &json["crosstab"]["rao_scott"];
+    let (statistic, deff) = (
+        test["statistic"].as_f64().unwrap(),
+        test["design_effect"].as_f64().unwrap(),
+    );
+    close(
+        test["corrected"].as_f64().unwrap(),
+        statistic / deff,
+        1e-9,
+        "corrected = statistic / design effect",
+    );
+    assert_eq!(test["df"], json["crosstab"]["chi_square"]["df"]);
+    let notes = json["notes"].to_string();
+    assert!(notes.contains("Rao-Scott"), "{notes}");
+
+    let text = String::from_utf8(tally(&["fuel", "--by", "district"]).stdout).unwrap();
+    assert!(text.contains("Rao-Scott chi-square"), "{text}");
+    let csv =
+        String::from_utf8(tally(&["fuel", "--by", "district", "--format", "csv"]).stdout).unwrap();
+    let mut reader = csv::Reader::from_reader(csv.as_bytes());
+    let header = reader.headers().unwrap().clone();
+    let at = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let row = reader
+        .records()
+        .map(Result::unwrap)
+        .find(|r| &r[at("table")] == "rao-scott")
+        .expect("a rao-scott row");
+    close(
+        row[at("design_effect")].parse().unwrap(),
+        deff,
+        1e-6,
+        "csv design effect",
+    );
+
+    // Unweighted: no design-adjusted test.
+    let out = tally(&[
+        "fuel",
+        "--by",
+        "district",
+        "--unweighted",
+        "--format",
+        "json",
+    ]);
+    let json: Json = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(json["crosstab"]["rao_scott"].is_null());
+    // Withheld with the Pearson test when cells are suppressed.
+    let out = tally(&[
+        "fuel",
+        "--by",
+        "district",
+        "--suppress-below",
+        "5",
+        "--format",
+        "json",
+    ]);
+    let json: Json = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(json["crosstab"]["rao_scott"].is_null());
+    assert!(json["crosstab"]["chi_square"].is_null());
+}
