@@ -362,6 +362,96 @@ print(json.dumps(out))
     );
 }
 
+/// Weighted type 7 has no published definition; concord's (`src/recode/quantile.rs`) puts
+/// each sorted value at the centre of its weight, rescaled so the extremes sit at 0 and 1,
+/// after cases sharing a value have shared their weight evenly, and interpolates linearly.
+/// numpy (PyPI), a general-purpose reference, computes the same from that description
+/// (`numpy.unique` for the runs, `numpy.cumsum`, `numpy.interp`): cut points must agree to
+/// 1e-9 and every case's band exactly, on values with few ties and on values with many.
+/// Runs when numpy is importable; under CI=true it must.
+#[test]
+fn weighted_type_7_quantile_bands_match_numpy_interp() {
+    if !numpy_with_weights() {
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let values = sample(587);
+    let mut state: u64 = 0x0bad_5eed_1234_5678;
+    let mut data = String::from("id,x,t,w\n");
+    for (i, v) in values.iter().enumerate() {
+        state = state
+            .wrapping_mul(6_364_136_223_846_793_005)
+            .wrapping_add(1_442_695_040_888_963_407);
+        let w = 0.1 + ((state >> 33) % 30_000) as f64 / 10_000.0;
+        // `t` has about three cases on each of its values, so cut points fall between runs
+        // of tied values as well as inside them.
+        let t = (v * 2.0).floor() / 2.0;
+        data.push_str(&format!("C{i},{v},{t},{w:.4}\n"));
+    }
+    fs::write(dir.path().join("data.csv"), &data).unwrap();
+    fs::write(
+        dir.path().join("codebook.toml"),
+        "[dataset]\nname = \"numpy\"\nid = [\"id\"]\nweight = \"w\"\n\n[[variables]]\nname = \"id\"\nkind = \"identifier\"\n\n\
+         [[variables]]\nname = \"x\"\nkind = \"numeric\"\nrange = { min = 0, max = 100 }\ndecimals = 2\n\n\
+         [[variables]]\nname = \"t\"\nkind = \"numeric\"\nrange = { min = 0, max = 100 }\ndecimals = 1\n\n\
+         [[variables]]\nname = \"w\"\nkind = \"numeric\"\nrange = { min = 0, max = 10 }\ndecimals = 4\n",
+    )
+    .unwrap();
+    let labels = (1..=5)
+        .map(|k| format!("{{ code = {k}, label = \"band {k}\" }}"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let recodes = format!(
+        "[[derive]]\nname = \"xw\"\nfrom = \"x\"\nquantiles = 5\ncategories = [{labels}]\n\n\
+         [[derive]]\nname = \"tw\"\nfrom = \"t\"\nquantiles = 5\ncategories = [{labels}]\n"
+    );
+    let (out, audit) = apply_in(dir.path(), &recodes);
+    let script = format!(
+        r#"
+import csv, json, numpy as np
+rows = list(csv.DictReader(open({data:?})))
+w = np.array([float(r["w"]) for r in rows])
+p = [j / 5 for j in range(1, 5)]
+out = {{}}
+for name, column in [("xw", "x"), ("tw", "t")]:
+    x = np.array([float(r[column]) for r in rows])
+    order = np.argsort(x, kind="stable")
+    xs, ws = x[order], w[order]
+    _, run, size = np.unique(xs, return_inverse=True, return_counts=True)
+    ws = (np.bincount(run, weights=ws) / size)[run]
+    s = np.cumsum(ws)
+    positions = (s - ws / 2 - ws[0] / 2) / (s[-1] - ws[0] / 2 - ws[-1] / 2)
+    cuts = np.interp(p, positions, xs)
+    out[name] = {{"cuts": [float(c) for c in cuts],
+                  "bands": [int(b) + 1 for b in np.digitize(x, cuts, right=True)]}}
+print(json.dumps(out))
+"#,
+        data = dir.path().join("data.csv").display().to_string()
+    );
+    let numpy: Json =
+        serde_json::from_str(&python(&script).expect("the numpy script runs")).unwrap();
+    let (header, rows) = read_csv(&out);
+    for name in ["xw", "tw"] {
+        let table = audit["audit"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|t| t["name"] == name)
+            .unwrap_or_else(|| panic!("no audit table for {name}: {audit}"));
+        let ours = table["cut_points"].as_array().unwrap();
+        let theirs = numpy[name]["cuts"].as_array().unwrap();
+        assert_eq!(ours.len(), theirs.len(), "{name}");
+        for (a, b) in ours.iter().zip(theirs) {
+            let (a, b) = (a.as_f64().unwrap(), b.as_f64().unwrap());
+            assert!(
+                (a - b).abs() <= 1e-9,
+                "{name} cut points: {ours:?} vs {theirs:?}"
+            );
+        }
+        assert_bands(&header, &rows, &numpy, name);
+    }
+}
+
 /// Type-6 quantiles have no weighted form: with a dataset weight in the codebook they must be
 /// asked for unweighted, not quietly weighted by another definition.
 #[test]

@@ -26,8 +26,14 @@
 //! centre of x(k)'s weight mass, rescaled so that the smallest value sits at 0 and the largest
 //! at 1. The quantile at p interpolates linearly between the two values whose positions
 //! bracket p. With equal weights p(k) = (k - 1) / (n - 1), so it is exactly type 7; the
-//! positions are symmetric (reversing the data reflects every quantile). It is not the same
-//! as repeating each case w times. Cases with a zero weight carry no mass and are left out.
+//! positions are symmetric (reversing the data reflects every quantile). Cases that share a value
+//! share its weight evenly before the positions are taken (their mean weight each), so the
+//! order of the rows cannot move a cut point. It is not the same as repeating each case w
+//! times. Cases with a zero weight carry no mass and are left out.
+//!
+//! No published source defines a weighted type 7: this one is concord's own. It is checked
+//! against numpy (`numpy.interp` over the positions above, `tests/recode_cli.rs`) and, for
+//! equal weights, against type 7 itself.
 
 /// Which of Hyndman and Fan's definitions.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -100,14 +106,15 @@ pub fn weighted_quantile(sorted: &[(f64, f64)], p: f64) -> Option<f64> {
 }
 
 fn positions(sorted: &[(f64, f64)]) -> Option<Vec<f64>> {
-    let (first, last) = (sorted.first()?.1, sorted.last()?.1);
-    let total: f64 = sorted.iter().map(|(_, w)| w).sum();
+    let weights = spread_ties(sorted);
+    let (first, last) = (*weights.first()?, *weights.last()?);
+    let total: f64 = weights.iter().sum();
     let span = total - first / 2.0 - last / 2.0;
     let mut running = 0.0;
     Some(
-        sorted
+        weights
             .iter()
-            .map(|(_, w)| {
+            .map(|w| {
                 running += w;
                 if span > 0.0 {
                     (running - w / 2.0 - first / 2.0) / span
@@ -117,6 +124,21 @@ fn positions(sorted: &[(f64, f64)]) -> Option<Vec<f64>> {
             })
             .collect(),
     )
+}
+
+/// The weights of `sorted` with each run of equal values given its mean weight. Within a run
+/// the quantile is the run's value whatever the order, but the positions of its first and
+/// last cases, where interpolation towards the neighbouring values starts, would depend on
+/// which of its cases came first in the file. Spreading the run's weight evenly makes the
+/// result independent of row order and keeps it symmetric under reflection; equal weights
+/// are unchanged, so it is still exactly type 7 for them.
+fn spread_ties(sorted: &[(f64, f64)]) -> Vec<f64> {
+    let mut weights = Vec::with_capacity(sorted.len());
+    for run in sorted.chunk_by(|a, b| a.0 == b.0) {
+        let mean = run.iter().map(|(_, w)| w).sum::<f64>() / run.len() as f64;
+        weights.extend(std::iter::repeat_n(mean, run.len()));
+    }
+    weights
 }
 
 fn interpolate(sorted: &[(f64, f64)], positions: &[f64], p: f64) -> f64 {
@@ -253,6 +275,40 @@ mod tests {
         let r = cut_points(reflected, 4, QuantileType::Seven, true);
         for (a, b) in q.iter().zip(r.iter().rev()) {
             assert!(close(*a, -*b, 1e-12), "{q:?} vs {r:?}");
+        }
+    }
+
+    #[test]
+    fn tied_values_give_the_same_cuts_in_any_row_order() {
+        let x = vec![
+            (1.0, 1.0),
+            (3.0, 0.5),
+            (3.0, 4.0),
+            (3.0, 1.5),
+            (6.0, 2.0),
+            (8.0, 1.0),
+        ];
+        let cuts = cut_points(x.clone(), 5, QuantileType::Seven, true);
+        let mut shuffled = x.clone();
+        shuffled.swap(1, 3);
+        shuffled.swap(2, 3);
+        shuffled.reverse();
+        assert_eq!(cuts, cut_points(shuffled, 5, QuantileType::Seven, true));
+        // The run of 3s weighs 6 over three cases: as if each weighed 2.
+        let even = vec![
+            (1.0, 1.0),
+            (3.0, 2.0),
+            (3.0, 2.0),
+            (3.0, 2.0),
+            (6.0, 2.0),
+            (8.0, 1.0),
+        ];
+        assert_eq!(cuts, cut_points(even, 5, QuantileType::Seven, true));
+        // And reflection still reflects.
+        let reflected: Vec<(f64, f64)> = x.iter().map(|&(v, w)| (-v, w)).collect();
+        let r = cut_points(reflected, 5, QuantileType::Seven, true);
+        for (a, b) in cuts.iter().zip(r.iter().rev()) {
+            assert!(close(*a, -*b, 1e-12), "{cuts:?} vs {r:?}");
         }
     }
 
