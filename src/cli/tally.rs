@@ -44,7 +44,8 @@ pub struct Args {
     /// threshold in statistical disclosure control; follow your local rules.
     #[arg(long, value_name = "N", default_value_t = tables::DEFAULT_MIN_CELL)]
     min_cell: u64,
-    /// Remove counts, percents and intervals of cells with fewer cases than this.
+    /// Remove counts, percents and intervals of cells with fewer cases than this, and of
+    /// further cells so that none can be recovered by subtraction along a row, column or total.
     #[arg(long, value_name = "N")]
     suppress_below: Option<u64>,
     /// Output format.

@@ -1,28 +1,24 @@
 //! From the pass's counts to the report: percents, intervals, tests and disclosure flags.
-//! The frequency table and numeric summary are built here; the `--by` tables in
-//! [`super::crossing`].
+//! The numeric summary is built here; the frequency table in [`super::frequency`], the
+//! `--by` tables in [`super::crossing`].
 //!
 //! Disclosure control is applied here, once, so every renderer shows the same thing: a
 //! cell with at least one but fewer than `min_cell` cases is `small`; one below
-//! `suppress_below` has its counts, percents and intervals removed. Figures that would let a
-//! reader subtract their way back to a suppressed cell (a cumulative percent past it, a
+//! `suppress_below` has its counts, percents and intervals removed (primary suppression).
+//! Totals stay visible, so each table then goes through secondary suppression
+//! ([`super::suppress`]): further entries are hidden until no row, column or total holds a
+//! lone suppressed entry that subtraction would give back. Figures derived from a hidden
+//! entry (a cumulative percent past it, a percent over a hidden total, a by-group estimate, a
 //! chi-square statistic over the table) are removed with it.
 
 use super::crossing::{by_levels, cross, group_means, group_proportions, with_test};
+use super::frequency::frequency_table;
 use super::model::*;
-use super::pass::{Accumulated, Count};
-use super::stats::{self, kish_design_effect, kish_effective_n, wilson, wilson_count, Z95};
+use super::pass::Accumulated;
+use super::stats::{self, kish_design_effect, kish_effective_n};
+use super::suppress::{Pattern, Status, Table};
 use super::{Request, TallyReport};
-use crate::codebook::model::{format_number, Code, Codebook, MissingKind, Variable};
-
-/// The order missing kinds are listed in a frequency table.
-const MISSING_ORDER: [MissingKind; 5] = [
-    MissingKind::Refused,
-    MissingKind::DontKnow,
-    MissingKind::NotAscertained,
-    MissingKind::Other,
-    MissingKind::Skipped,
-];
+use crate::codebook::model::{format_number, Code, Codebook, Variable};
 
 /// A code as a table shows it: numbers without ".0", text as written.
 pub fn code_text(code: &Code) -> String {
@@ -32,29 +28,62 @@ pub fn code_text(code: &Code) -> String {
     }
 }
 
+/// The disclosure thresholds, and what the tables flagged and hid.
 pub(super) struct Disclose {
     min_cell: u64,
     suppress_below: Option<u64>,
     small: u64,
-    pub(super) suppressed: u64,
+    suppressed: u64,
+    secondary: u64,
+    unprotected: u64,
 }
 
 impl Disclose {
-    /// Flags for a cell of `n` cases: (small, suppressed). Empty cells are not flagged.
-    pub(super) fn flag(&mut self, n: u64) -> (bool, bool) {
-        let small = n > 0 && n < self.min_cell;
-        let suppressed = n > 0 && self.suppress_below.is_some_and(|s| n < s);
-        self.small += u64::from(small);
-        self.suppressed += u64::from(suppressed);
-        (small, suppressed)
+    pub(super) fn new(min_cell: u64, suppress_below: Option<u64>) -> Self {
+        Disclose {
+            min_cell,
+            suppress_below,
+            small: 0,
+            suppressed: 0,
+            secondary: 0,
+            unprotected: 0,
+        }
     }
 
-    /// The same flags without counting the cell (it is counted in another table).
-    pub(super) fn peek(&self, n: u64) -> (bool, bool) {
-        (
-            n > 0 && n < self.min_cell,
-            n > 0 && self.suppress_below.is_some_and(|s| n < s),
-        )
+    /// At least one but fewer than `min_cell` cases. Empty cells are not flagged.
+    pub(super) fn is_small(&self, n: u64) -> bool {
+        n > 0 && n < self.min_cell
+    }
+
+    /// At least one but fewer than `suppress_below` cases: primary suppression.
+    pub(super) fn is_primary(&self, n: u64) -> bool {
+        n > 0 && self.suppress_below.is_some_and(|s| n < s)
+    }
+
+    /// [`Self::is_small`] for an entry a table shows, counted.
+    pub(super) fn small(&mut self, n: u64) -> bool {
+        let small = self.is_small(n);
+        self.small += u64::from(small);
+        small
+    }
+
+    /// The status of a figure that is in no table's lines (a summary's n), counted.
+    pub(super) fn alone(&mut self, n: u64) -> Status {
+        if self.is_primary(n) {
+            self.suppressed += 1;
+            Status::Primary
+        } else {
+            Status::Shown
+        }
+    }
+
+    /// The table's final pattern after secondary suppression, counted.
+    pub(super) fn protect(&mut self, table: &Table) -> Pattern {
+        let pattern = table.protect();
+        self.suppressed += pattern.primary();
+        self.secondary += pattern.secondary();
+        self.unprotected += pattern.unprotected;
+        pattern
     }
 }
 
@@ -78,12 +107,7 @@ pub fn report(
 ) -> TallyReport {
     let variable = &codebook.variables[targets.var];
     let weighted = targets.weight.is_some();
-    let mut disclose = Disclose {
-        min_cell: request.min_cell,
-        suppress_below: request.suppress_below,
-        small: 0,
-        suppressed: 0,
-    };
+    let mut disclose = Disclose::new(request.min_cell, request.suppress_below);
     let mut notes = Vec::new();
     let mut excluded = Vec::new();
     let weight_name = targets
@@ -124,15 +148,19 @@ pub fn report(
             });
         }
     }
+    // The frequency table comes first: the note on invalid cells must not give back its
+    // Invalid row's count when that row is suppressed.
+    let frequency = targets
+        .by
+        .is_none()
+        .then(|| frequency_table(codebook, variable, targets, &acc, &mut disclose));
+    let invalid_hidden = frequency.as_ref().is_some_and(|f| {
+        f.rows
+            .iter()
+            .any(|r| r.kind == RowKind::Invalid && r.suppressed)
+    });
     if acc.invalid.n > 0 {
-        notes.push(format!(
-            "{} {} of `{}` {} a value finding and {} counted as invalid; run `concord check` to see them",
-            acc.invalid.n,
-            if acc.invalid.n == 1 { "cell" } else { "cells" },
-            variable.name,
-            if acc.invalid.n == 1 { "has" } else { "have" },
-            if acc.invalid.n == 1 { "is" } else { "are" },
-        ));
+        notes.push(invalid_note(acc.invalid.n, &variable.name, invalid_hidden));
     }
     let weight = targets.weight.map(|w| WeightInfo {
         variable: codebook.variables[w].name.clone(),
@@ -148,77 +176,63 @@ pub fn report(
         );
     }
 
-    let mut frequency = None;
     let mut summary = None;
     let mut crosstab = None;
     let mut by_group = None;
     let mut test_withheld = false;
     if targets.numeric {
-        summary = Some(numeric_summary(&acc, weighted, &mut disclose, &mut notes));
+        // Beside a frequency table the summary's n is the valid row's count.
+        let follows = frequency
+            .as_ref()
+            .and_then(|f| f.rows.iter().find(|r| r.kind == RowKind::Valid))
+            .map(|r| status(r.suppressed, r.secondary));
+        summary = Some(numeric_summary(
+            &acc,
+            weighted,
+            follows,
+            &mut disclose,
+            &mut notes,
+        ));
     }
-    match targets.by {
-        None => {
-            frequency = Some(frequency_table(
-                codebook,
-                variable,
-                targets,
-                &acc,
-                &mut disclose,
-            ))
+    if let Some(by) = targets.by {
+        let by_variable = &codebook.variables[by];
+        let (levels, order) = by_levels(by_variable, &acc.by_levels);
+        let var_valid: u64 = acc.valid.iter().map(|c| c.n).sum();
+        let var_not_valid = acc.all.n - var_valid;
+        if var_not_valid > 0 {
+            notes.push(format!(
+                "{var_not_valid} {} missing or invalid on `{}` {} left out of the by-group tables",
+                cases(var_not_valid),
+                variable.name,
+                if var_not_valid == 1 { "is" } else { "are" },
+            ));
         }
-        Some(by) => {
-            let by_variable = &codebook.variables[by];
-            let (levels, order) = by_levels(by_variable, &acc.by_levels);
-            let var_valid: u64 = acc.valid.iter().map(|c| c.n).sum();
-            let var_not_valid = acc.all.n - var_valid;
-            if var_not_valid > 0 {
-                notes.push(format!(
-                    "{var_not_valid} {} missing or invalid on `{}` {} left out of the by-group tables",
-                    cases(var_not_valid),
-                    variable.name,
-                    if var_not_valid == 1 { "is" } else { "are" },
+        if acc.by_not_valid > 0 {
+            notes.push(format!(
+                "{} {} valid on `{}` but missing or invalid on `{}` {} left out of the by-group tables",
+                acc.by_not_valid,
+                cases(acc.by_not_valid),
+                variable.name,
+                by_variable.name,
+                if acc.by_not_valid == 1 { "is" } else { "are" },
+            ));
+        }
+        if targets.numeric {
+            by_group = Some(group_means(&acc, &levels, &order, weighted, &mut disclose));
+        } else {
+            let table = cross(variable, &acc, &levels, &order, weighted, &mut disclose);
+            let (table, withheld) = with_test(table, &acc, &order, weighted, &mut notes);
+            test_withheld = withheld;
+            let event = event.or((variable.categories.len() == 2).then_some(0));
+            if let Some(e) = event {
+                by_group = Some(group_proportions(
+                    variable, e, &acc, &table, &levels, &order, weighted,
                 ));
             }
-            if acc.by_not_valid > 0 {
-                notes.push(format!(
-                    "{} {} valid on `{}` but missing or invalid on `{}` {} left out of the by-group tables",
-                    acc.by_not_valid,
-                    cases(acc.by_not_valid),
-                    variable.name,
-                    by_variable.name,
-                    if acc.by_not_valid == 1 { "is" } else { "are" },
-                ));
-            }
-            if targets.numeric {
-                by_group = Some(group_means(&acc, &levels, &order, weighted, &mut disclose));
-            } else {
-                let table = cross(variable, &acc, &levels, &order, weighted, &mut disclose);
-                let (table, withheld) =
-                    with_test(table, &acc, &order, weighted, &mut disclose, &mut notes);
-                test_withheld = withheld;
-                crosstab = Some(table);
-                let event = event.or((variable.categories.len() == 2).then_some(0));
-                if let Some(e) = event {
-                    by_group = Some(group_proportions(
-                        variable,
-                        e,
-                        &acc,
-                        &levels,
-                        &order,
-                        weighted,
-                        &mut disclose,
-                    ));
-                }
-            }
+            crosstab = Some(table);
         }
     }
-    if disclose.suppressed > 0 {
-        notes.push(
-            "totals are shown, so a lone suppressed cell in a row or column can be recovered by \
-             subtraction; apply secondary suppression as your disclosure rules require"
-                .to_string(),
-        );
-    }
+    notes.extend(suppression_notes(&disclose));
     TallyReport {
         concord: env!("CARGO_PKG_VERSION"),
         codebook: request.codebook_name.clone(),
@@ -234,6 +248,8 @@ pub fn report(
             suppress_below: request.suppress_below,
             small_cells: disclose.small,
             suppressed_cells: disclose.suppressed,
+            secondary_suppressed_cells: disclose.secondary,
+            unprotected_lines: disclose.unprotected,
             test_withheld,
         },
         frequency,
@@ -242,6 +258,68 @@ pub fn report(
         by_group,
         notes,
     }
+}
+
+/// A figure's status from its model flags.
+fn status(suppressed: bool, secondary: bool) -> Status {
+    match (suppressed, secondary) {
+        (false, _) => Status::Shown,
+        (true, false) => Status::Primary,
+        (true, true) => Status::Secondary,
+    }
+}
+
+fn invalid_note(n: u64, name: &str, hidden: bool) -> String {
+    let one = n == 1;
+    if hidden {
+        return format!(
+            "cells of `{name}` with a value finding are counted as invalid (their number is \
+             suppressed); run `concord check` to see them"
+        );
+    }
+    format!(
+        "{n} {} of `{name}` {} a value finding and {} counted as invalid; run `concord check` to see them",
+        if one { "cell" } else { "cells" },
+        if one { "has" } else { "have" },
+        if one { "is" } else { "are" },
+    )
+}
+
+/// What suppression did, and what it does not promise.
+fn suppression_notes(d: &Disclose) -> Vec<String> {
+    const LIMIT: &str = "this does not guarantee a protection interval against \
+                         linear-programming attacks: follow your local disclosure rules";
+    let mut notes = Vec::new();
+    if d.secondary > 0 {
+        notes.push(format!(
+            "{} further {} suppressed so that no suppressed cell can be recovered by \
+             subtraction along a row, column or total; {LIMIT}",
+            d.secondary,
+            if d.secondary == 1 { "cell" } else { "cells" },
+        ));
+    } else if d.suppressed > 0 {
+        notes.push(format!(
+            "no further cells needed suppressing: every row, column or total with a suppressed \
+             cell holds another; {LIMIT}"
+        ));
+    }
+    if d.unprotected > 0 {
+        let one = d.unprotected == 1;
+        notes.push(format!(
+            "{} {} still {} a single suppressed cell, because every other figure in {} is \
+             published elsewhere in the report (the number of cases tabulated): that cell can \
+             be recovered, so treat the table as unprotected",
+            d.unprotected,
+            if one {
+                "row, column or total"
+            } else {
+                "rows, columns or totals"
+            },
+            if one { "holds" } else { "hold" },
+            if one { "it" } else { "them" },
+        ));
+    }
+    notes
 }
 
 fn cases(n: u64) -> &'static str {
@@ -260,193 +338,28 @@ fn info(v: &Variable) -> VariableInfo {
     }
 }
 
-fn frequency_table(
-    codebook: &Codebook,
-    variable: &Variable,
-    targets: &super::pass::Targets,
-    acc: &Accumulated,
-    disclose: &mut Disclose,
-) -> Frequency {
-    let weighted = targets.weight.is_some();
-    let valid = acc.valid.iter().fold(Count::default(), |mut t, c| {
-        t.n += c.n;
-        t.w += c.w;
-        t.w2 += c.w2;
-        t
-    });
-    let valid_n_eff = kish_effective_n(valid.w, valid.w2);
-    let mut rows = Vec::new();
-    let mut cumulative = Some(0.0);
-    let base = |c: &Count| Figures {
-        count: Some(c.n),
-        percent: percent(c.n as f64, acc.all.n as f64),
-        weighted_count: weighted.then_some(c.w),
-        weighted_percent: if weighted {
-            percent(c.w, acc.all.w)
-        } else {
-            None
-        },
-        ..Figures::default()
-    };
-    if targets.numeric {
-        let c = &acc.valid[0];
-        let (small, suppressed) = disclose.flag(c.n);
-        let mut figures = Figures {
-            valid_percent: (c.n > 0).then_some(100.0),
-            weighted_valid_percent: (weighted && c.n > 0).then_some(100.0),
-            ..base(c)
-        };
-        if suppressed {
-            figures = Figures::default();
-        }
-        rows.push(FrequencyRow {
-            kind: RowKind::Valid,
-            code: None,
-            label: "Valid values".to_string(),
-            missing_kind: None,
-            figures,
-            small,
-            suppressed,
-        });
-    } else {
-        for (category, c) in variable.categories.iter().zip(&acc.valid) {
-            let (small, suppressed) = disclose.flag(c.n);
-            let valid_percent = percent(c.n as f64, valid.n as f64);
-            cumulative = match (cumulative, valid_percent, suppressed) {
-                (Some(sum), Some(p), false) => Some(sum + p),
-                _ => None,
-            };
-            let ci = if weighted {
-                valid_n_eff.and_then(|n| wilson(c.w / valid.w, n, Z95))
-            } else {
-                wilson_count(c.n, valid.n)
-            };
-            let (ci95_low, ci95_high) = interval_percent(ci);
-            let figures = if suppressed {
-                Figures::default()
-            } else {
-                Figures {
-                    valid_percent,
-                    cumulative_valid_percent: cumulative.map(|s| s.min(100.0)),
-                    weighted_valid_percent: if weighted {
-                        percent(c.w, valid.w)
-                    } else {
-                        None
-                    },
-                    ci95_low,
-                    ci95_high,
-                    ..base(c)
-                }
-            };
-            rows.push(FrequencyRow {
-                kind: RowKind::Category,
-                code: Some(code_text(&category.code)),
-                label: category.label.clone(),
-                missing_kind: None,
-                figures,
-                small,
-                suppressed,
-            });
-        }
-    }
-    let blank_meaning = variable.blank_meaning(&codebook.dataset);
-    for kind in MISSING_ORDER {
-        let c = &acc.missing[kind as usize];
-        let declared: Vec<_> = variable.missing.iter().filter(|m| m.kind == kind).collect();
-        let blank_here = blank_meaning == Some(kind);
-        if declared.is_empty() && !blank_here && c.n == 0 {
-            continue;
-        }
-        let mut codes: Vec<String> = declared.iter().map(|m| code_text(&m.code)).collect();
-        let mut labels: Vec<String> = declared.iter().map(|m| m.label.clone()).collect();
-        if blank_here {
-            codes.push("blank".to_string());
-            if labels.is_empty() {
-                labels.push(format!("Blank ({})", kind.name()));
-            }
-        }
-        rows.push(missing_row(
-            RowKind::Missing,
-            Some(codes.join(", ")),
-            labels.join("; "),
-            Some(kind.name()),
-            c,
-            base(c),
-            disclose,
-        ));
-    }
-    if acc.blank.n > 0 {
-        let figures = base(&acc.blank);
-        rows.push(missing_row(
-            RowKind::Blank,
-            Some("blank".to_string()),
-            "Blank (no blank meaning declared)".to_string(),
-            None,
-            &acc.blank,
-            figures,
-            disclose,
-        ));
-    }
-    if acc.invalid.n > 0 {
-        let figures = base(&acc.invalid);
-        rows.push(missing_row(
-            RowKind::Invalid,
-            None,
-            "Invalid (value findings; run `concord check`)".to_string(),
-            None,
-            &acc.invalid,
-            figures,
-            disclose,
-        ));
-    }
-    Frequency {
-        rows,
-        total: acc.all.n,
-        valid: valid.n,
-        weighted_total: weighted.then_some(acc.all.w),
-        weighted_valid: weighted.then_some(valid.w),
-        valid_effective_n: if weighted { valid_n_eff } else { None },
-    }
-}
-
-fn missing_row(
-    kind: RowKind,
-    code: Option<String>,
-    label: String,
-    missing_kind: Option<&'static str>,
-    c: &Count,
-    figures: Figures,
-    disclose: &mut Disclose,
-) -> FrequencyRow {
-    let (small, suppressed) = disclose.flag(c.n);
-    FrequencyRow {
-        kind,
-        code,
-        label,
-        missing_kind,
-        figures: if suppressed {
-            Figures::default()
-        } else {
-            figures
-        },
-        small,
-        suppressed,
-    }
-}
-
+/// The summary of a numeric variable's valid values. Beside a frequency table it `follows`
+/// the valid row, and its flags are not counted again: a primary suppression removes every
+/// figure (a few cases' mean discloses them); a secondary one, of a count that is not small
+/// itself, removes what would give the count back (n, the Kish n and the interval of the
+/// mean, whose width is set by n) and keeps the other statistics.
 fn numeric_summary(
     acc: &Accumulated,
     weighted: bool,
+    follows: Option<Status>,
     disclose: &mut Disclose,
     notes: &mut Vec<String>,
 ) -> Summary {
     let unit = &acc.unit;
-    let (small, suppressed) = disclose.flag(unit.count);
-    if suppressed {
+    let (small, status) = match follows {
+        Some(s) if s.suppressed() => (disclose.is_small(unit.count), s),
+        Some(_) => (disclose.is_small(unit.count), disclose.alone(unit.count)),
+        None => (disclose.small(unit.count), disclose.alone(unit.count)),
+    };
+    if status == Status::Primary {
         return Summary {
-            n: unit.count,
             small,
-            suppressed,
+            suppressed: true,
             ..Summary::default()
         };
     }
@@ -485,8 +398,9 @@ fn numeric_summary(
     } else {
         unit.mean_interval()
     };
+    let shown = !status.suppressed();
     Summary {
-        n: unit.count,
+        n: shown.then_some(unit.count),
         mean: unit.mean(),
         sd: unit.sd(),
         min: unit.min(),
@@ -499,14 +413,15 @@ fn numeric_summary(
         weighted_q1: weighted_quantile(0.25),
         weighted_median: weighted_quantile(0.5),
         weighted_q3: weighted_quantile(0.75),
-        effective_n: if weighted {
+        effective_n: if weighted && shown {
             acc.running.effective_n()
         } else {
             None
         },
-        mean_ci95_low: interval.map(|i| i.0),
-        mean_ci95_high: interval.map(|i| i.1),
+        mean_ci95_low: interval.filter(|_| shown).map(|i| i.0),
+        mean_ci95_high: interval.filter(|_| shown).map(|i| i.1),
         small,
-        suppressed,
+        suppressed: !shown,
+        secondary: status.secondary(),
     }
 }

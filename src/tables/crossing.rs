@@ -1,10 +1,17 @@
 //! The `--by` half of a tally: the cross-tabulation with its chi-square test, and the
 //! by-group proportions or means for plots, with their disclosure flags.
+//!
+//! The cross-tabulation is protected as one array with its margins ([`suppress::Array`]).
+//! The by-group proportions show each group's n (a column total) and p * n (the event cell),
+//! so they follow the cross-tabulation's final pattern instead of flagging anything of their
+//! own. The by-group means have one line: the groups' n plus the cases outside any group
+//! (stated in the notes) make the summary's n.
 
 use super::build::{code_text, interval_percent, percent, Disclose};
 use super::model::*;
 use super::pass::{Accumulated, ByLevel, Count};
 use super::stats::{self, kish_effective_n, wilson, wilson_count, Z95};
+use super::suppress::{self, Entry, Role, Status, Table};
 use crate::codebook::model::{format_number, Variable};
 
 /// The `--by` levels in table order, and for each the index of its accumulated column.
@@ -64,12 +71,26 @@ pub(super) fn cross(
         .map(|&c| total(acc.cross[c].iter().copied()))
         .collect();
     let grand = total(column_totals.iter().copied());
-    let mut make = |c: &Count, row: Option<f64>, column: Option<f64>| {
-        let (small, suppressed) = disclose.flag(c.n);
-        if suppressed {
+    let counts: Vec<Vec<u64>> = (0..categories)
+        .map(|r| order.iter().map(|&c| acc.cross[c][r].n).collect())
+        .collect();
+    let array = suppress::Array {
+        rows: categories,
+        columns: order.len(),
+    };
+    let table = array.table(&counts, |n| disclose.is_primary(n));
+    let pattern = disclose.protect(&table);
+    let status = |i: usize, j: usize| pattern.status[array.at(i, j)];
+    // A percent over a hidden total would give the total back with the shown count.
+    let row_shown = |r: usize| !status(r, array.columns).suppressed();
+    let column_shown = |j: usize| !status(array.rows, j).suppressed();
+    let mut make = |c: &Count, s: Status, row: Option<f64>, column: Option<f64>| {
+        let small = disclose.small(c.n);
+        if s.suppressed() {
             return CrossCell {
                 small,
-                suppressed,
+                suppressed: true,
+                secondary: s.secondary(),
                 ..CrossCell::default()
             };
         }
@@ -79,7 +100,8 @@ pub(super) fn cross(
             row_percent: row,
             column_percent: column,
             small,
-            suppressed,
+            suppressed: false,
+            secondary: false,
         }
     };
     let cells = (0..categories)
@@ -91,8 +113,10 @@ pub(super) fn cross(
                     let cell = &acc.cross[c][r];
                     make(
                         cell,
-                        percent(amount(cell), amount(&row_totals[r])),
-                        percent(amount(cell), amount(&column_totals[j])),
+                        status(r, j),
+                        percent(amount(cell), amount(&row_totals[r])).filter(|_| row_shown(r)),
+                        percent(amount(cell), amount(&column_totals[j]))
+                            .filter(|_| column_shown(j)),
                     )
                 })
                 .collect()
@@ -100,9 +124,11 @@ pub(super) fn cross(
         .collect();
     let row_margins = row_totals
         .iter()
-        .map(|t| {
+        .enumerate()
+        .map(|(r, t)| {
             make(
                 t,
+                status(r, array.columns),
                 percent(amount(t), amount(t)),
                 percent(amount(t), amount(&grand)),
             )
@@ -110,9 +136,11 @@ pub(super) fn cross(
         .collect();
     let column_margins = column_totals
         .iter()
-        .map(|t| {
+        .enumerate()
+        .map(|(j, t)| {
             make(
                 t,
+                status(array.rows, j),
                 percent(amount(t), amount(&grand)),
                 percent(amount(t), amount(t)),
             )
@@ -138,6 +166,17 @@ pub(super) fn cross(
     }
 }
 
+/// Whether any cell or margin of the table is suppressed (primary or secondary).
+fn any_suppressed(table: &Crosstab) -> bool {
+    table
+        .cells
+        .iter()
+        .flatten()
+        .chain(&table.row_totals)
+        .chain(&table.column_totals)
+        .any(|c| c.suppressed)
+}
+
 /// Add the chi-square test (and, for a weighted table, its design-adjusted form) unless a
 /// suppressed cell would make it a way back to the counts.
 pub(super) fn with_test(
@@ -145,7 +184,6 @@ pub(super) fn with_test(
     acc: &Accumulated,
     order: &[usize],
     weighted: bool,
-    disclose: &mut Disclose,
     notes: &mut Vec<String>,
 ) -> (Crosstab, bool) {
     let rows = table.rows.len();
@@ -156,7 +194,7 @@ pub(super) fn with_test(
         notes.push("no chi-square test: fewer than two non-empty rows or columns".to_string());
         return (table, false);
     };
-    if disclose.suppressed > 0 {
+    if any_suppressed(&table) {
         notes.push(
             "the chi-square test is withheld: with the margins it could reveal suppressed cells"
                 .to_string(),
@@ -210,25 +248,32 @@ pub(super) fn with_test(
     (table, false)
 }
 
-#[allow(clippy::too_many_arguments)]
+/// The percent in the `event` category per group, hidden where the cross-tabulation `table`
+/// hides the group's column total or its event cell.
 pub(super) fn group_proportions(
     variable: &Variable,
     event: usize,
     acc: &Accumulated,
+    table: &Crosstab,
     levels: &[Level],
     order: &[usize],
     weighted: bool,
-    disclose: &mut Disclose,
 ) -> ByGroup {
     let groups = order
         .iter()
         .zip(levels)
-        .map(|(&c, level)| {
+        .enumerate()
+        .map(|(j, (&c, level))| {
             let all = total(acc.cross[c].iter().copied());
             let hit = acc.cross[c][event];
-            let (small_n, suppressed_n) = disclose.flag(all.n);
-            let (small_e, suppressed_e) = disclose.peek(hit.n);
-            let (small, suppressed) = (small_n || small_e, suppressed_n || suppressed_e);
+            let (n, e) = (&table.column_totals[j], &table.cells[event][j]);
+            let small = n.small || e.small;
+            let primary = |x: &CrossCell| x.suppressed && !x.secondary;
+            let status = match (primary(n) || primary(e), n.suppressed || e.suppressed) {
+                (true, _) => Status::Primary,
+                (false, true) => Status::Secondary,
+                (false, false) => Status::Shown,
+            };
             let (estimate, ci) = if weighted {
                 let p = (all.w > 0.0).then(|| hit.w / all.w);
                 let n_eff = kish_effective_n(all.w, all.w2);
@@ -248,7 +293,7 @@ pub(super) fn group_proportions(
                 low,
                 high,
                 small,
-                suppressed,
+                status,
             )
         })
         .collect();
@@ -263,6 +308,8 @@ pub(super) fn group_proportions(
     }
 }
 
+/// The mean per group. One line protects the groups' n: with the summary's n and the cases
+/// outside any group, both in the report, a lone hidden n would come back.
 pub(super) fn group_means(
     acc: &Accumulated,
     levels: &[Level],
@@ -270,17 +317,26 @@ pub(super) fn group_means(
     weighted: bool,
     disclose: &mut Disclose,
 ) -> ByGroup {
+    let mut table = Table::default();
+    for &c in order {
+        let n = acc.group_running[c].count;
+        table.push(Entry::new(n, Role::Cell, disclose.is_primary(n)));
+    }
+    let all = table.push(Entry::fixed(acc.unit.count, Role::Total));
+    table.line(0..=all);
+    let pattern = disclose.protect(&table);
     let groups = order
         .iter()
         .zip(levels)
-        .map(|(&c, level)| {
+        .zip(&pattern.status)
+        .map(|((&c, level), &status)| {
             let running = &acc.group_running[c];
             let count = Count {
                 n: running.count,
                 w: running.sum_w,
                 w2: running.sum_w2,
             };
-            let (small, suppressed) = disclose.flag(count.n);
+            let small = disclose.small(count.n);
             let ci = running.mean_interval();
             group(
                 level,
@@ -290,7 +346,7 @@ pub(super) fn group_means(
                 ci.map(|i| i.0),
                 ci.map(|i| i.1),
                 small,
-                suppressed,
+                status,
             )
         })
         .collect();
@@ -310,7 +366,7 @@ fn group(
     ci95_low: Option<f64>,
     ci95_high: Option<f64>,
     small: bool,
-    suppressed: bool,
+    status: Status,
 ) -> Group {
     let mut group = Group {
         code: level.code.clone(),
@@ -326,9 +382,10 @@ fn group(
         ci95_low,
         ci95_high,
         small,
-        suppressed,
+        suppressed: status.suppressed(),
+        secondary: status.secondary(),
     };
-    if suppressed {
+    if status.suppressed() {
         group.n = None;
         group.weighted_n = None;
         group.effective_n = None;

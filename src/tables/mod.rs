@@ -4,14 +4,17 @@
 //! indices, the default weight), the codebook compiles into the checker's plan, [`pass::run`]
 //! streams the records once into counts and running sums, and [`build::report`] turns those
 //! into a plain [`model::TallyReport`] with the statistics of [`stats`] and the disclosure
-//! flags. The renderers in [`render`] only format it.
+//! flags, each table's suppression pattern completed by [`suppress`]. The renderers in
+//! [`render`] only format it.
 
 pub mod build;
 mod crossing;
+mod frequency;
 pub mod model;
 pub mod pass;
 pub mod render;
 pub mod stats;
+pub mod suppress;
 
 use crate::check::plan;
 use crate::codebook::model::{Codebook, Kind};

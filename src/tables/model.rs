@@ -4,7 +4,10 @@
 //! publishes its shape. Percentages are on the 0-100 scale everywhere, intervals of
 //! proportions included, so a plotting tool can put an estimate and its interval on one axis.
 //! A count, percent or interval that disclosure suppression hides is `None` (JSON `null`)
-//! and its row says `suppressed: true`.
+//! and its row says `suppressed: true`; `secondary: true` beside it says the figure was hidden
+//! as a complement (secondary suppression, see [`super::suppress`]) rather than for its own
+//! small count. Percents of a hidden total (a row percent whose row total is hidden, a valid
+//! percent when the valid total is) are removed too: with the count they would give it back.
 
 use serde::Serialize;
 
@@ -67,8 +70,17 @@ pub struct Disclosure {
     pub min_cell: u64,
     /// Cells with fewer cases than this (but at least one) are suppressed.
     pub suppress_below: Option<u64>,
+    /// Entries flagged small. Each figure counts once: the by-group proportions repeat the
+    /// cross-tabulation's, and the summary beside a frequency table its valid row.
     pub small_cells: u64,
+    /// Entries suppressed for their own small count (primary suppression).
     pub suppressed_cells: u64,
+    /// Further entries suppressed as complements, so that no suppressed entry can be recovered
+    /// by subtraction along a row, column or total (secondary suppression).
+    pub secondary_suppressed_cells: u64,
+    /// Rows, columns or totals left holding a single suppressed entry because every other
+    /// entry in them is published elsewhere in the report: that entry can be recovered.
+    pub unprotected_lines: u64,
     /// Whether the chi-square test was withheld because cells were suppressed.
     pub test_withheld: bool,
 }
@@ -118,23 +130,29 @@ pub struct FrequencyRow {
     pub figures: Figures,
     pub small: bool,
     pub suppressed: bool,
+    /// Suppressed as a complement, not for its own count.
+    pub secondary: bool,
 }
 
 #[derive(Debug, Clone, Serialize)]
 pub struct Frequency {
     pub rows: Vec<FrequencyRow>,
     pub total: u64,
-    pub valid: u64,
+    /// Valid cases; `None` when the valid total is suppressed as a complement.
+    pub valid: Option<u64>,
     pub weighted_total: Option<f64>,
     pub weighted_valid: Option<f64>,
     /// Kish effective sample size of the valid cases, used for the weighted intervals.
     pub valid_effective_n: Option<f64>,
+    /// The valid total is suppressed (always as a complement): with it go every valid
+    /// percent, cumulative percent and interval, which would give it back.
+    pub valid_suppressed: bool,
 }
 
 #[derive(Debug, Clone, Default, Serialize)]
 pub struct Summary {
-    /// Valid cases.
-    pub n: u64,
+    /// Valid cases; `None` when suppressed.
+    pub n: Option<u64>,
     pub mean: Option<f64>,
     pub sd: Option<f64>,
     pub min: Option<f64>,
@@ -155,6 +173,9 @@ pub struct Summary {
     pub mean_ci95_high: Option<f64>,
     pub small: bool,
     pub suppressed: bool,
+    /// The frequency table's valid row was suppressed as a complement: `n`, `effective_n` and
+    /// the interval of the mean are removed (they give n back), the other statistics kept.
+    pub secondary: bool,
 }
 
 /// A row or column of a cross-tabulation, or a group of a by-group summary.
@@ -174,6 +195,8 @@ pub struct CrossCell {
     pub column_percent: Option<f64>,
     pub small: bool,
     pub suppressed: bool,
+    /// Suppressed as a complement, not for its own count.
+    pub secondary: bool,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -252,4 +275,8 @@ pub struct Group {
     pub ci95_high: Option<f64>,
     pub small: bool,
     pub suppressed: bool,
+    /// Suppressed as a complement: for a proportion, the cross-tabulation hides the group's
+    /// column total or event cell only as a complement; for a mean, the group's n is hidden
+    /// so that another group's cannot be recovered from the summary's n.
+    pub secondary: bool,
 }

@@ -5,6 +5,7 @@
 #![allow(dead_code)]
 
 pub mod survey;
+pub mod tally;
 
 use std::fs;
 use std::path::{Path, PathBuf};

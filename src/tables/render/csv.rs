@@ -1,9 +1,10 @@
 //! Tidy CSV: one row per table cell, the same columns for every table, ready for a plotting
 //! tool. Columns that do not apply to a row are empty; `row_kind` tells margins from cells.
+//! `suppressed` is true for every hidden row, `secondary` when it was hidden as a complement.
 
 use crate::tables::model::*;
 
-const HEADER: [&str; 42] = [
+const HEADER: [&str; 43] = [
     "table",
     "var",
     "var_code",
@@ -46,6 +47,7 @@ const HEADER: [&str; 42] = [
     "design_effect",
     "small",
     "suppressed",
+    "secondary",
 ];
 
 fn column(name: &str) -> usize {
@@ -85,9 +87,11 @@ impl Line {
         self
     }
 
-    fn flags(&mut self, small: bool, suppressed: bool) -> &mut Self {
-        self.set("small", if small { "true" } else { "false" });
-        self.set("suppressed", if suppressed { "true" } else { "false" })
+    fn flags(&mut self, small: bool, suppressed: bool, secondary: bool) -> &mut Self {
+        let text = |flag: bool| if flag { "true" } else { "false" };
+        self.set("small", text(small))
+            .set("suppressed", text(suppressed))
+            .set("secondary", text(secondary))
     }
 }
 
@@ -110,14 +114,14 @@ pub fn csv(report: &TallyReport) -> String {
                 .float("weighted_valid_percent", fig.weighted_valid_percent)
                 .float("ci95_low", fig.ci95_low)
                 .float("ci95_high", fig.ci95_high)
-                .flags(row.small, row.suppressed);
+                .flags(row.small, row.suppressed, row.secondary);
             lines.push(line);
         }
     }
     if let Some(s) = &report.summary {
         let mut line = Line::new("summary", report);
         line.set("row_kind", "summary")
-            .count("n", Some(s.n))
+            .count("n", s.n)
             .float("mean", s.mean)
             .float("sd", s.sd)
             .float("min", s.min)
@@ -133,7 +137,7 @@ pub fn csv(report: &TallyReport) -> String {
             .float("effective_n", s.effective_n)
             .float("ci95_low", s.mean_ci95_low)
             .float("ci95_high", s.mean_ci95_high)
-            .flags(s.small, s.suppressed);
+            .flags(s.small, s.suppressed, s.secondary);
         lines.push(line);
     }
     if let Some(c) = &report.crosstab {
@@ -150,7 +154,7 @@ pub fn csv(report: &TallyReport) -> String {
                 .float("weighted_count", x.weighted_count)
                 .float("row_percent", x.row_percent)
                 .float("column_percent", x.column_percent)
-                .flags(x.small, x.suppressed);
+                .flags(x.small, x.suppressed, x.secondary);
             lines.push(line);
         };
         for (r, level) in c.rows.iter().enumerate() {
@@ -204,7 +208,7 @@ pub fn csv(report: &TallyReport) -> String {
                 .float("estimate", group.estimate)
                 .float("ci95_low", group.ci95_low)
                 .float("ci95_high", group.ci95_high)
-                .flags(group.small, group.suppressed);
+                .flags(group.small, group.suppressed, group.secondary);
             lines.push(line);
         }
     }

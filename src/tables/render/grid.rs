@@ -104,10 +104,16 @@ impl Grid {
     }
 }
 
-/// A count with its disclosure marker: `7*` when small, `suppressed` when hidden.
-pub fn count(n: Option<u64>, small: bool, suppressed: bool) -> String {
+/// A count with its disclosure marker: `7*` when small, `suppressed` when hidden for its own
+/// count, `suppressed+` when hidden as a complement (secondary suppression).
+pub fn count(n: Option<u64>, small: bool, suppressed: bool, secondary: bool) -> String {
     if suppressed {
-        return "suppressed".to_string();
+        return if secondary {
+            "suppressed+"
+        } else {
+            "suppressed"
+        }
+        .to_string();
     }
     match n {
         Some(n) if small => format!("{n}*"),

@@ -50,7 +50,7 @@ fn render(report: &TallyReport, style: Style) -> String {
             "Counts (unweighted)",
             &cross_grid(
                 c,
-                |cell| grid::count(cell.count, cell.small, cell.suppressed),
+                |cell| grid::count(cell.count, cell.small, cell.suppressed, cell.secondary),
                 |t| t.total.to_string(),
             ),
         );
@@ -208,7 +208,7 @@ fn frequency_grid(f: &Frequency, report: &TallyReport) -> Grid {
         let mut cells = vec![
             row.code.clone().unwrap_or_default(),
             row.label.clone(),
-            grid::count(fig.count, row.small, row.suppressed),
+            grid::count(fig.count, row.small, row.suppressed, row.secondary),
             grid::percent(fig.percent),
             grid::percent(fig.valid_percent),
             grid::percent(fig.cumulative_valid_percent),
@@ -229,7 +229,7 @@ fn frequency_grid(f: &Frequency, report: &TallyReport) -> Grid {
         } else {
             String::new()
         },
-        if f.valid > 0 {
+        if f.valid.is_some_and(|v| v > 0) {
             "100.0".to_string()
         } else {
             String::new()
@@ -248,8 +248,11 @@ fn frequency_grid(f: &Frequency, report: &TallyReport) -> Grid {
 fn summary_grid(s: &Summary) -> Grid {
     let mut table = Grid::new(&[("statistic", Align::Left), ("value", Align::Right)]);
     let mut add = |name: &str, value: String| table.push(vec![name.to_string(), value]);
-    add("n (valid)", grid::count(Some(s.n), s.small, s.suppressed));
-    if s.suppressed {
+    add(
+        "n (valid)",
+        grid::count(s.n, s.small, s.suppressed, s.secondary),
+    );
+    if s.suppressed && !s.secondary {
         return table;
     }
     add("mean", grid::statistic(s.mean));
@@ -326,7 +329,7 @@ fn group_grid(g: &ByGroup, weighted: bool) -> Grid {
         let mut row = vec![
             group.code.clone(),
             group.label.clone(),
-            grid::count(group.n, group.small, group.suppressed),
+            grid::count(group.n, group.small, group.suppressed, group.secondary),
         ];
         if weighted {
             row.push(grid::fixed(group.weighted_n, 1));
@@ -362,27 +365,41 @@ fn notes(report: &TallyReport) -> Vec<String> {
     let d = &report.disclosure;
     if d.small_cells > 0 {
         list.push(format!(
-            "* fewer than {} cases ({} {} flagged)",
+            "* fewer than {} cases ({} flagged)",
             d.min_cell,
-            d.small_cells,
-            if d.small_cells == 1 {
-                "entry"
-            } else {
-                "entries"
-            }
+            entries(d.small_cells),
         ));
     }
     if d.suppressed_cells > 0 {
         list.push(format!(
-            "suppressed: fewer than {} cases; counts, percents and intervals removed ({} {})",
+            "suppressed: fewer than {} cases; counts, percents and intervals removed ({})",
             d.suppress_below.unwrap_or(0),
-            d.suppressed_cells,
-            if d.suppressed_cells == 1 {
-                "entry"
-            } else {
-                "entries"
-            }
+            entries(d.suppressed_cells),
         ));
     }
+    if d.secondary_suppressed_cells > 0 {
+        list.push(format!(
+            "suppressed+: suppressed as a complement (secondary suppression), not for its own \
+             count, so that no suppressed figure can be recovered by subtraction; its figures \
+             are removed in the same way ({})",
+            entries(d.secondary_suppressed_cells),
+        ));
+    }
+    // A numeric variable's valid row is its valid total, and says so itself.
+    let coded = |f: &Frequency| f.rows.iter().all(|r| r.kind != RowKind::Valid);
+    if report
+        .frequency
+        .as_ref()
+        .is_some_and(|f| f.valid_suppressed && coded(f))
+    {
+        list.push(
+            "the valid total is suppressed+, so valid percents and their intervals are removed"
+                .to_string(),
+        );
+    }
     list
+}
+
+fn entries(n: u64) -> String {
+    format!("{n} {}", if n == 1 { "entry" } else { "entries" })
 }
