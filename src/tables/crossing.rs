@@ -219,9 +219,9 @@ pub(super) fn with_test(
         match stats::rao_scott(&sums(|c| c.w), &sums(|c| c.w2), n) {
             Some(t) => {
                 notes.push(
-                    "the Rao-Scott test (first-order correction) allows for the unequal weights, \
-                     each case taken as sampled on its own; it does not allow for clusters or \
-                     strata"
+                    "the Rao-Scott tests allow for the unequal weights, each case taken as sampled \
+                     on its own; they do not allow for clusters or strata. The second-order test \
+                     also allows for design effects that differ between cells"
                         .to_string(),
                 );
                 table.rao_scott = Some(RaoScott {
@@ -230,6 +230,11 @@ pub(super) fn with_test(
                     corrected: t.corrected,
                     df: t.df,
                     p_value: t.p_value,
+                    second_order: SecondOrder {
+                        statistic: t.second_order,
+                        df: t.second_order_df,
+                        p_value: t.second_order_p_value,
+                    },
                 });
             }
             None => notes

@@ -239,9 +239,19 @@ pub struct RaoScott {
     pub statistic: f64,
     /// Mean generalised design effect of the weights.
     pub design_effect: f64,
-    /// `statistic / design_effect`, the test statistic.
+    /// First order: `statistic / design_effect` on `df` degrees of freedom.
     pub corrected: f64,
     pub df: u64,
+    pub p_value: f64,
+    /// Second order (Satterthwaite), which also allows for design effects that differ
+    /// between cells: the statistic to refer to chi-square on a fractional df.
+    pub second_order: SecondOrder,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SecondOrder {
+    pub statistic: f64,
+    pub df: f64,
     pub p_value: f64,
 }
 

@@ -185,6 +185,14 @@ pub fn csv(report: &TallyReport) -> String {
                 .float("p_value", Some(t.p_value))
                 .float("design_effect", Some(t.design_effect));
             lines.push(line);
+            let mut line = Line::new("rao-scott-second-order", report);
+            line.set("row_kind", "test")
+                .count("n", Some(c.total))
+                .float("chi_square", Some(t.second_order.statistic))
+                .float("df", Some(t.second_order.df))
+                .float("p_value", Some(t.second_order.p_value))
+                .float("design_effect", Some(t.design_effect));
+            lines.push(line);
         }
     }
     if let Some(g) = &report.by_group {

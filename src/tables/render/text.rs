@@ -101,12 +101,15 @@ fn render(report: &TallyReport, style: Style) -> String {
         if let Some(test) = &c.rao_scott {
             let _ = writeln!(
                 out,
-                "Rao-Scott chi-square {:.3}, df {}, p = {} (weighted proportions, first-order \
-                 correction for a design effect of {:.3} from the weights)",
+                "Rao-Scott chi-square on the weighted proportions, design effect {:.3} from the \
+                 weights: first order {:.3}, df {}, p = {}; second order {:.3}, df {:.2}, p = {}",
+                test.design_effect,
                 test.corrected,
                 test.df,
                 grid::p_value(test.p_value),
-                test.design_effect,
+                test.second_order.statistic,
+                test.second_order.df,
+                grid::p_value(test.second_order.p_value),
             );
         }
     }
