@@ -157,6 +157,73 @@ fn sums(cases: &[(usize, usize, f64)], rows: usize, columns: usize) -> [Vec<Vec<
     [w, w2]
 }
 
+/// The sum of the eigenvalues and of their squares the slow way, from the linearised
+/// residual of a case in each cell written out cell by cell (see `rao_scott`'s doc):
+/// `G(c, d) = sum_ij beta_c(ij) beta_d(ij) / p0_ij` over all pairs of cells.
+fn direct_sums(w: &[Vec<f64>], w2: &[Vec<f64>], n: u64) -> (f64, f64) {
+    let (r, c) = (w.len(), w[0].len());
+    let total: f64 = w.iter().flatten().sum();
+    let a: Vec<f64> = w
+        .iter()
+        .map(|row| row.iter().sum::<f64>() / total)
+        .collect();
+    let b: Vec<f64> = (0..c)
+        .map(|j| w.iter().map(|row| row[j]).sum::<f64>() / total)
+        .collect();
+    let beta = |x: usize, y: usize| -> Vec<f64> {
+        let mut v = Vec::with_capacity(r * c);
+        for i in 0..r {
+            for j in 0..c {
+                let own = f64::from(u8::from(i == x && j == y));
+                let k = 2.0 * a[i] * b[j] - w[i][j] / total;
+                v.push(
+                    own - b[j] * f64::from(u8::from(i == x)) - a[i] * f64::from(u8::from(j == y))
+                        + k,
+                );
+            }
+        }
+        v
+    };
+    let cells: Vec<(usize, usize)> = (0..r).flat_map(|x| (0..c).map(move |y| (x, y))).collect();
+    let betas: Vec<Vec<f64>> = cells.iter().map(|&(x, y)| beta(x, y)).collect();
+    let g = |p: usize, q: usize| -> f64 {
+        (0..r * c)
+            .map(|m| betas[p][m] * betas[q][m] / (a[m / c] * b[m % c]))
+            .sum()
+    };
+    let nf = n as f64;
+    let scale = nf * nf / (nf - 1.0) / (total * total);
+    let s = |p: usize| w2[cells[p].0][cells[p].1];
+    let sum: f64 = (0..cells.len()).map(|p| s(p) * g(p, p)).sum();
+    let sum2: f64 = (0..cells.len())
+        .flat_map(|p| (0..cells.len()).map(move |q| (p, q)))
+        .map(|(p, q)| s(p) * s(q) * g(p, q).powi(2))
+        .sum();
+    (scale * sum, scale * scale * sum2)
+}
+
+#[test]
+fn the_closed_form_matches_the_sums_written_out() {
+    let mut rng = Rng(0x0123_4567_89ab_cdef);
+    for (rows, columns) in [(2, 2), (3, 4), (6, 5), (9, 3)] {
+        let mut w = vec![vec![0.0; columns]; rows];
+        let mut w2 = vec![vec![0.0; columns]; rows];
+        let n = 500;
+        for _ in 0..n {
+            let row = ((rng.next() * rows as f64) as usize).min(rows - 1);
+            let column = ((rng.next().powi(2) * columns as f64) as usize).min(columns - 1);
+            let weight = 0.5 + 10.0 * rng.next().powi(3) * (1 + row % 2) as f64;
+            w[row][column] += weight;
+            w2[row][column] += weight * weight;
+        }
+        let test = rao_scott(&w, &w2, n).unwrap();
+        let (sum, sum2) = direct_sums(&w, &w2, n);
+        let what = format!("{rows} x {columns}");
+        close(test.design_effect * test.df as f64 / sum, 1.0, 1e-10, &what);
+        close(test.second_order_df / (sum * sum / sum2), 1.0, 1e-10, &what);
+    }
+}
+
 /// numpy (PyPI), a general-purpose reference, builds the design effect matrix the long way
 /// from its definition: the covariance of the weighted cell proportions from each case's
 /// linearised contribution (with-replacement, n / (n - 1)), the Jacobian of the residuals

@@ -185,7 +185,8 @@ pub struct RaoScottTest {
 ///
 /// Rows and columns with no weight are left out, as in [`chi_square`]. `None` when fewer
 /// than two rows or columns remain, `n < 2`, or the shapes disagree. The work grows with the
-/// square of the number of cells (a 500 x 50 table is a quarter of a second).
+/// number of cells times the number of rows and columns (a 1000 x 50 table took 0.2 s, a
+/// 50 x 50 one a millisecond).
 pub fn rao_scott(w: &[Vec<f64>], w2: &[Vec<f64>], n: u64) -> Option<RaoScottTest> {
     let columns = w.first().map_or(0, Vec::len);
     if w2.len() != w.len()
@@ -245,19 +246,45 @@ pub fn rao_scott(w: &[Vec<f64>], w2: &[Vec<f64>], n: u64) -> Option<RaoScottTest
             k[c] / (a[x] * b[y]) - row_k[x] / a[x] - column_k[y] / b[y]
         })
         .collect();
-    let inner = |c: usize, d: usize| {
+    // So G(c, d) = h_c + h_d + e(c, d), with h_c = k.s_c + (k.k + 2) / 2 and
+    // e = [same row] [same column] / (a b) - [same row] / a - [same column] / b, which is zero
+    // unless the two cells share a row or a column. The sum over all pairs of the part
+    // without `e` has a closed form; the pairs that share a row or a column are added one by
+    // one. That keeps the work to cells x (rows + columns) rather than cells squared.
+    let h: Vec<f64> = ks.iter().map(|x| x + (kk + 2.0) / 2.0).collect();
+    let e = |c: usize, d: usize| {
         let (x, y, u, v) = (c / nc, c % nc, d / nc, d % nc);
-        let same_row = if x == u { 1.0 / a[x] } else { 0.0 };
-        let same_column = if y == v { 1.0 / b[y] } else { 0.0 };
-        kk + ks[c] + ks[d] + (same_row - 2.0) * (same_column - 1.0) + same_column
+        match (x == u, y == v) {
+            (true, true) => 1.0 / (a[x] * b[y]) - 1.0 / a[x] - 1.0 / b[y],
+            (true, false) => -1.0 / a[x],
+            (false, true) => -1.0 / b[y],
+            (false, false) => 0.0,
+        }
     };
-    let occupied: Vec<usize> = (0..nr * nc).filter(|&c| squares[c] > 0.0).collect();
-    let (mut trace, mut trace_square) = (0.0, 0.0);
-    for (i, &c) in occupied.iter().enumerate() {
-        trace += squares[c] * inner(c, c);
-        trace_square += (squares[c] * inner(c, c)).powi(2);
-        for &d in &occupied[i + 1..] {
-            trace_square += 2.0 * (squares[c] * squares[d]) * inner(c, d).powi(2);
+    let total_squares: f64 = squares.iter().sum();
+    let weighted_h: f64 = squares.iter().zip(&h).map(|(s, h)| s * h).sum();
+    let weighted_h2: f64 = squares.iter().zip(&h).map(|(s, h)| s * h * h).sum();
+    let trace: f64 = (0..nr * nc)
+        .map(|c| squares[c] * (2.0 * h[c] + e(c, c)))
+        .sum();
+    // Over all ordered pairs, sum S_c S_d (h_c + h_d)^2 = 2 S sum S h^2 + 2 (sum S h)^2.
+    let mut trace_square = 2.0 * total_squares * weighted_h2 + 2.0 * weighted_h * weighted_h;
+    let mut add_pair = |c: usize, d: usize| {
+        let (base, extra) = (h[c] + h[d], e(c, d));
+        trace_square += squares[c] * squares[d] * extra * (2.0 * base + extra);
+    };
+    for x in 0..nr {
+        for y in 0..nc {
+            for v in 0..nc {
+                add_pair(x * nc + y, x * nc + v);
+            }
+        }
+    }
+    for y in 0..nc {
+        for x in 0..nr {
+            for u in (0..nr).filter(|&u| u != x) {
+                add_pair(x * nc + y, u * nc + y);
+            }
         }
     }
     let nf = n as f64;
