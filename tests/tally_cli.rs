@@ -5,11 +5,14 @@
 //! crate, the chi-square statistic is recomputed by the test's own arithmetic, and JSON
 //! output is validated with `jsonschema` against `schemas/tally.schema.json`.
 
+mod support;
+
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 use assert_cmd::Command;
 use serde_json::Value as Json;
+use support::tally::schema_validator;
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -42,12 +45,6 @@ fn tally(data: &Path, args: &[&str]) -> (i32, String, String) {
         String::from_utf8(output.stdout).unwrap(),
         String::from_utf8(output.stderr).unwrap(),
     )
-}
-
-fn schema_validator() -> jsonschema::Validator {
-    let text = std::fs::read_to_string(root().join("schemas/tally.schema.json")).unwrap();
-    let schema: Json = serde_json::from_str(&text).unwrap();
-    jsonschema::draft202012::new(&schema).expect("the tally schema compiles")
 }
 
 /// `concord tally ... --format json`, checked against the published schema.

@@ -228,6 +228,20 @@ pub fn python(script: &str) -> Option<String> {
         .then(|| String::from_utf8_lossy(&out.stdout).into_owned())
 }
 
+/// Whether numpy is importable. When it is not, the caller skips with a message; under
+/// CI=true that is a failure.
+pub fn numpy() -> bool {
+    if python("import numpy").is_some() {
+        return true;
+    }
+    assert!(
+        std::env::var("CI").as_deref() != Ok("true"),
+        "numpy is not importable, but CI=true requires this test to run (pip install numpy)"
+    );
+    eprintln!("skipped: numpy not importable");
+    false
+}
+
 /// Whether numpy with weighted quantiles (numpy 2.0 and later) is importable. When it is not,
 /// the caller skips with a message; under CI=true that is a failure.
 pub fn numpy_with_weights() -> bool {
