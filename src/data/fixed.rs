@@ -178,12 +178,14 @@ fn slice_fields(
     for field in fields {
         let start = offset(field.start - 1);
         let end = offset(field.end);
-        let raw = &text[start..end];
-        let leading = raw.len() - raw.trim_start().len();
-        let trimmed = raw.trim();
-        record
-            .bounds
-            .push((start + leading, start + leading + trimmed.len()));
+        let (from, to) = if ascii {
+            trim_ascii(text.as_bytes(), start, end)
+        } else {
+            let raw = &text[start..end];
+            let leading = raw.len() - raw.trim_start().len();
+            (start + leading, start + leading + raw.trim().len())
+        };
+        record.bounds.push((from, to));
     }
     let problem = LengthProblem {
         actual: chars,
@@ -194,6 +196,21 @@ fn slice_fields(
     } else {
         None
     }
+}
+
+/// `bytes[start..end]` without leading and trailing white space, as `str::trim` would give
+/// for ASCII text (whose only white space characters are these six), byte by byte instead of
+/// decoding characters: most fields of a fixed-width file are padded.
+#[inline]
+fn trim_ascii(bytes: &[u8], mut start: usize, mut end: usize) -> (usize, usize) {
+    let space = |b: u8| matches!(b, b' ' | b'\t' | b'\n' | 0x0b | 0x0c | b'\r');
+    while start < end && space(bytes[start]) {
+        start += 1;
+    }
+    while end > start && space(bytes[end - 1]) {
+        end -= 1;
+    }
+    (start, end)
 }
 
 #[cfg(test)]
@@ -222,6 +239,17 @@ mod tests {
             ));
         }
         out
+    }
+
+    #[test]
+    fn ascii_trim_is_str_trim() {
+        let text = " \t a b\x0b\x0c\r\n x \x0b";
+        for start in 0..text.len() {
+            for end in start..=text.len() {
+                let (from, to) = trim_ascii(text.as_bytes(), start, end);
+                assert_eq!(&text[from..to], text[start..end].trim(), "{start}..{end}");
+            }
+        }
     }
 
     #[test]
