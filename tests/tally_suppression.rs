@@ -319,7 +319,19 @@ fn a_hidden_valid_total_takes_the_valid_percents_with_it() {
         &["dwelling", "--suppress-below", "10", "--format", "csv"],
     )
     .stdout;
-    assert_eq!(assert_no_figures_in_csv(&csv), 1);
+    // Two secondary rows: the mobile homes, and the valid total itself, which the CSV lists
+    // (`row_kind = valid-total`) so that a reader of it alone sees why the percents are gone.
+    assert_eq!(assert_no_figures_in_csv(&csv), 2);
+    let valid_total = csv
+        .lines()
+        .find(|l| l.contains(",valid-total,"))
+        .expect("a valid-total row");
+    assert!(valid_total.ends_with(",false,true,true"), "{valid_total}");
+    let total = csv
+        .lines()
+        .find(|l| l.contains(",total,"))
+        .expect("a total row");
+    assert!(total.contains(",600,"), "{total}");
 }
 
 #[test]

@@ -189,12 +189,13 @@ fn suppressed_and_secondary_entries_carry_no_figures_in_any_format() {
         count_row(&text, "A2"),
         ["2", "A2", "suppressed+", "suppressed+", "40", "63"]
     );
-    // The row percents of A1: only the shown cell's (30 of 47) and the total's.
+    // The row percents of A1: only the shown cell's (30 of 47) and the total's; the hidden
+    // cells carry their markers in this grid too.
     let percents = text.split("Row percents").nth(1).unwrap();
     let a1 = percents.lines().find(|l| l.contains(" A1 ")).unwrap();
     assert_eq!(
         a1.split_whitespace().collect::<Vec<_>>(),
-        ["1", "A1", "63.8", "100.0"]
+        ["1", "A1", "suppressed", "suppressed+", "63.8", "100.0"]
     );
     assert!(
         text.contains("- suppressed+: suppressed as a complement (secondary suppression)"),

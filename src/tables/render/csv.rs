@@ -117,6 +117,23 @@ pub fn csv(report: &TallyReport) -> String {
                 .flags(row.small, row.suppressed, row.secondary);
             lines.push(line);
         }
+        // The totals the percents are taken over, so that a reader of the CSV alone sees
+        // when the valid total is suppressed (and why the valid percents are empty).
+        let mut line = Line::new("frequency", report);
+        line.set("row_kind", "valid-total")
+            .count("count", f.valid)
+            .float(
+                "weighted_count",
+                f.weighted_valid.filter(|_| !f.valid_suppressed),
+            )
+            .flags(false, f.valid_suppressed, f.valid_suppressed);
+        lines.push(line);
+        let mut line = Line::new("frequency", report);
+        line.set("row_kind", "total")
+            .count("count", Some(f.total))
+            .float("weighted_count", f.weighted_total)
+            .flags(false, false, false);
+        lines.push(line);
     }
     if let Some(s) = &report.summary {
         let mut line = Line::new("summary", report);

@@ -61,7 +61,10 @@ fn render(report: &TallyReport, style: Style) -> String {
                 "Weighted counts",
                 &cross_grid(
                     c,
-                    |cell| grid::weighted(cell.weighted_count, cell.small),
+                    |cell| {
+                        hidden(cell)
+                            .unwrap_or_else(|| grid::weighted(cell.weighted_count, cell.small))
+                    },
                     |t| grid::fixed(t.weighted_total, 1),
                 ),
             );
@@ -73,7 +76,7 @@ fn render(report: &TallyReport, style: Style) -> String {
             &format!("Row percents{basis}"),
             &cross_grid(
                 c,
-                |cell| grid::percent(cell.row_percent),
+                |cell| hidden(cell).unwrap_or_else(|| grid::percent(cell.row_percent)),
                 |_| "100.0".to_string(),
             ),
         );
@@ -83,7 +86,7 @@ fn render(report: &TallyReport, style: Style) -> String {
             &format!("Column percents{basis}"),
             &cross_grid(
                 c,
-                |cell| grid::percent(cell.column_percent),
+                |cell| hidden(cell).unwrap_or_else(|| grid::percent(cell.column_percent)),
                 |_| "100.0".to_string(),
             ),
         );
@@ -285,6 +288,13 @@ fn summary_grid(s: &Summary) -> Grid {
         },
     );
     table
+}
+
+/// The marker of a suppressed cross-tabulation entry, shown in every grid (weighted counts and
+/// percents too) so that a hidden figure does not read as an empty one; `None` when shown.
+fn hidden(cell: &CrossCell) -> Option<String> {
+    cell.suppressed
+        .then(|| grid::count(None, cell.small, true, cell.secondary))
 }
 
 fn cross_grid(
