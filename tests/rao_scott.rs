@@ -386,6 +386,7 @@ fn the_corrected_test_holds_its_size_under_independence() {
     }
     let size = f64::from(corrected) / replicates as f64;
     let naive_size = f64::from(naive) / replicates as f64;
+    eprintln!("corrected size {size}, uncorrected size {naive_size}");
     assert!(
         (0.035..=0.065).contains(&size),
         "corrected test size {size}"
