@@ -12,7 +12,7 @@ use std::path::{Path, PathBuf};
 
 use assert_cmd::Command;
 use serde_json::Value as Json;
-use support::tally::schema_validator;
+use support::tally::{assert_schema_valid, schema_validator};
 
 fn root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -54,15 +54,7 @@ fn tally_json(data: &Path, args: &[&str]) -> Json {
     let (code, out, err) = tally(data, &all);
     assert_eq!(code, 0, "stderr: {err}");
     let json: Json = serde_json::from_str(&out).unwrap();
-    let validator = schema_validator();
-    let errors: Vec<String> = validator
-        .iter_errors(&json)
-        .map(|e| format!("{}: {e}", e.instance_path))
-        .collect();
-    assert!(
-        errors.is_empty(),
-        "schema violations for {args:?}: {errors:#?}"
-    );
+    assert_schema_valid(&json, args);
     json
 }
 

@@ -27,15 +27,20 @@ pub fn tally_json(codebook: &Path, data: &Path, args: &[&str]) -> Json {
     let run = tally(codebook, data, &all);
     run.assert_code(0);
     let json = run.json();
+    assert_schema_valid(&json, args);
+    json
+}
+
+/// Fail, naming `args`, unless `json` is valid against `schemas/tally.schema.json`.
+pub fn assert_schema_valid(json: &Json, args: &[&str]) {
     let errors: Vec<String> = schema_validator()
-        .iter_errors(&json)
+        .iter_errors(json)
         .map(|e| format!("{}: {e}", e.instance_path))
         .collect();
     assert!(
         errors.is_empty(),
         "schema violations for {args:?}: {errors:#?}"
     );
-    json
 }
 
 pub fn demo_json(args: &[&str]) -> Json {
